@@ -1,0 +1,262 @@
+"""Equilibrium kinetic theory for the HS, VHS and VSS collision models.
+
+All quantities are SI.  Functions taking a temperature accept a scalar or a
+numpy array and broadcast.  ``model`` is one of "hs", "vhs", "vss"; "hs" is
+VHS with omega = 0.5 and the VHS diameter (see
+:meth:`dsmc.gas.species.Species.parameters`).  Equation numbers refer to
+Bird (1994), *Molecular Gas Dynamics and the Direct Simulation of Gas
+Flows*, chapter 4; the numbering is from memory, and each formula is
+re-derived or cross-checked in ``tests/test_gas.py``.
+
+Notation: k Boltzmann constant, m molecular mass, m_r reduced mass of a
+collision pair (m/2 in a simple gas), g relative speed, n number density,
+d_ref the model diameter at temperature T_ref, omega the viscosity index,
+alpha the VSS scattering exponent.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from dsmc.errors import UserError
+
+if TYPE_CHECKING:
+    from dsmc.gas.species import Species
+
+#: Boltzmann constant, J/K (exact in the 2019 SI).
+K_B = 1.380649e-23
+#: Atomic mass constant, kg (CODATA 2022).
+AMU = 1.66053906892e-27
+
+
+# --- Maxwell-Boltzmann speeds and the ideal-gas law -------------------------
+
+def most_probable_speed(T, m):
+    """Most probable Maxwellian speed c_mp = sqrt(2kT/m) (Bird 1994 ch. 4)."""
+    return np.sqrt(2.0 * K_B * np.asarray(T, dtype=float) / m)
+
+
+def mean_speed(T, m):
+    """Mean Maxwellian speed c_bar = sqrt(8kT/(pi m)) (Bird 1994 ch. 4)."""
+    return np.sqrt(8.0 * K_B * np.asarray(T, dtype=float) / (math.pi * m))
+
+
+def rms_speed(T, m):
+    """Root-mean-square Maxwellian speed sqrt(3kT/m) (Bird 1994 ch. 4)."""
+    return np.sqrt(3.0 * K_B * np.asarray(T, dtype=float) / m)
+
+
+def number_density(p, T):
+    """Ideal-gas number density n = p/(kT), m^-3."""
+    return np.asarray(p, dtype=float) / (K_B * np.asarray(T, dtype=float))
+
+
+def pressure(n, T):
+    """Ideal-gas pressure p = n k T, Pa."""
+    return np.asarray(n, dtype=float) * K_B * np.asarray(T, dtype=float)
+
+
+# --- Transport coefficients --------------------------------------------------
+
+def viscosity(sp: Species, T, model: str = "vhs"):
+    """Chapman-Enskog first-approximation viscosity, Pa s.
+
+    mu = mu_ref (T/T_ref)^omega with
+
+        mu_ref = 5 (alpha+1)(alpha+2) sqrt(m k T_ref / pi)
+                 / (4 alpha (5 - 2 omega)(7 - 2 omega) d_ref^2).
+
+    alpha = 1 gives the VHS result 15 sqrt(pi m k T_ref) /
+    (2 pi d_ref^2 (5-2 omega)(7-2 omega)) (Bird 1994 eq. 4.62); omega = 0.5
+    as well gives the hard-sphere 5/(16 d^2) sqrt(m k T/pi).  The VSS factor
+    (alpha+1)(alpha+2)/(6 alpha) is the ratio of the VHS viscosity
+    cross-section (2/3) sigma_T to the VSS one 4 alpha sigma_T /
+    ((alpha+1)(alpha+2)) (Koura & Matsumoto 1991; Bird 1994 ch. 4, from
+    memory).
+    """
+    d, omega, alpha = sp.parameters(model)
+    mu_ref = (5.0 * (alpha + 1.0) * (alpha + 2.0)
+              * math.sqrt(sp.mass * K_B * sp.T_ref / math.pi)
+              / (4.0 * alpha * (5.0 - 2.0 * omega) * (7.0 - 2.0 * omega) * d**2))
+    return mu_ref * (np.asarray(T, dtype=float) / sp.T_ref) ** omega
+
+
+def conductivity(sp: Species, T, model: str = "vhs"):
+    """Thermal conductivity, W/(m K): K = mu (k/m) (15/4 + rot_dof/2).
+
+    Monatomic (rot_dof = 0): K = (15/4)(k/m) mu, the Chapman-Enskog first
+    approximation, which holds for every intermolecular force law because
+    both coefficients then depend on the same collision integral
+    Omega(2,2) (Chapman & Cowling 1970, ch. 10, from memory); it therefore
+    applies unchanged to HS, VHS and VSS, whose scattering law enters only
+    through mu.  Higher approximations raise K m/(k mu) by about 1 %.
+
+    Polyatomic: the Eucken (1913) relation K = mu (5/2 c_v,tr + c_v,int)
+    with c_v,tr = (3/2) k/m and c_v,int = (rot_dof/2) k/m (Chapman &
+    Cowling 1970, ch. 11, from memory).  Vibration is treated as frozen and
+    left out.
+    """
+    mu = viscosity(sp, T, model)
+    return mu * (K_B / sp.mass) * (15.0 / 4.0 + sp.rot_dof / 2.0)
+
+
+# --- Free paths, collision rates --------------------------------------------
+
+def mean_free_path(sp: Species, T, n, model: str = "vhs"):
+    """Equilibrium mean free path of the model gas, m.
+
+    lambda = 1 / (sqrt(2) pi d_ref^2 n (T_ref/T)^(omega - 1/2))
+    (Bird 1994 eq. 4.65 for VHS; VSS has the same total cross-section law
+    with its own d_ref).  It equals mean_speed / collision_rate.
+    """
+    d, omega, _ = sp.parameters(model)
+    T = np.asarray(T, dtype=float)
+    return 1.0 / (math.sqrt(2.0) * math.pi * d**2 * np.asarray(n, dtype=float)
+                  * (sp.T_ref / T) ** (omega - 0.5))
+
+
+def viscosity_mean_free_path(mu, T, n, m):
+    """Viscosity-based mean free path, m.
+
+    lambda = mu / (n m) * sqrt(pi m / (2 k T)), i.e. the elementary
+    mean-free-path relation mu = rho c_bar lambda / 2 solved for lambda
+    (Maxwell; e.g. Cercignani 1988, The Boltzmann Equation and Its
+    Applications, from memory).  It is a definition, independent of the
+    collision model; for hard spheres it is (5 pi/16) times
+    :func:`mean_free_path`.
+    """
+    T = np.asarray(T, dtype=float)
+    return (np.asarray(mu, dtype=float) / (np.asarray(n, dtype=float) * m)
+            * np.sqrt(math.pi * m / (2.0 * K_B * T)))
+
+
+def equivalent_free_path(mu, p, T, m):
+    """Equivalent free path ell = mu v0 / p with v0 = sqrt(2kT/m), m.
+
+    Definition used by Sharipov & Seleznev (1998), J. Phys. Chem. Ref. Data
+    27, 657 (from memory); the rarefaction parameter is delta = L / ell.
+    """
+    return (np.asarray(mu, dtype=float) * most_probable_speed(T, m)
+            / np.asarray(p, dtype=float))
+
+
+def collision_rate(sp: Species, T, n, model: str = "vhs"):
+    """Equilibrium collision frequency per molecule in a simple gas, 1/s.
+
+    nu = 4 d_ref^2 n sqrt(pi k T_ref / m) (T/T_ref)^(1 - omega)
+    (Bird 1994 eq. 4.64).  It is n <sigma_T g> with sigma_T of
+    :func:`vhs_cross_section` averaged over the Maxwellian relative-speed
+    distribution of reduced mass m/2, which uses
+    <g^(2-2 omega)> = (2/sqrt(pi)) Gamma(5/2 - omega) (2kT/m_r)^(1-omega).
+    """
+    d, omega, _ = sp.parameters(model)
+    T = np.asarray(T, dtype=float)
+    return (4.0 * d**2 * np.asarray(n, dtype=float)
+            * math.sqrt(math.pi * K_B * sp.T_ref / sp.mass)
+            * (T / sp.T_ref) ** (1.0 - omega))
+
+
+def mean_collision_time(sp: Species, T, n, model: str = "vhs"):
+    """Mean time between collisions of one molecule, 1/nu, s."""
+    return 1.0 / collision_rate(sp, T, n, model)
+
+
+# --- Cross-sections for the collision kernel ---------------------------------
+
+def total_cross_section(g, m_r, d_ref, omega, T_ref):
+    """VHS/VSS total cross-section of a pair with reduced mass m_r, m^2.
+
+    sigma_T(g) = pi d_ref^2 (2 k T_ref / (m_r g^2))^(omega - 1/2)
+                 / Gamma(5/2 - omega)        (Bird 1994 eq. 4.63).
+
+    For a mixture pair pass the pair's m_r, d_ref, omega and T_ref.
+    """
+    g = np.asarray(g, dtype=float)
+    return (math.pi * d_ref**2
+            * (2.0 * K_B * T_ref / (m_r * g**2)) ** (omega - 0.5)
+            / math.gamma(2.5 - omega))
+
+
+def vhs_cross_section(sp: Species, g, model: str = "vhs"):
+    """:func:`total_cross_section` for a like pair of ``sp`` (m_r = m/2)."""
+    d, omega, _ = sp.parameters(model)
+    return total_cross_section(g, 0.5 * sp.mass, d, omega, sp.T_ref)
+
+
+def pair_constants_for(m_r, d_ref, omega, T_ref):
+    """``(C, exponent)`` with sigma_T(g) g = C g**exponent.
+
+    From :func:`total_cross_section`,
+
+        sigma_T g = pi d_ref^2 (2kT_ref/m_r)^(omega-1/2) (g^-2)^(omega-1/2) g
+                  / Gamma(5/2 - omega)
+                  = [pi d_ref^2 (2kT_ref/m_r)^(omega-1/2) / Gamma(5/2-omega)]
+                    * g^(1 - 2 omega + 1),
+
+    so C = pi d_ref^2 (2kT_ref/m_r)^(omega-1/2) / Gamma(5/2-omega) (units
+    m^(1+2 omega) s^(2 omega-2)) and exponent = 2 - 2 omega, which lies in
+    [0, 1] for omega in [0.5, 1]; hard spheres give (pi d^2, 1).
+    """
+    C = (math.pi * d_ref**2 * (2.0 * K_B * T_ref / m_r) ** (omega - 0.5)
+         / math.gamma(2.5 - omega))
+    return C, 2.0 - 2.0 * omega
+
+
+def pair_constants(sp: Species, model: str = "vhs"):
+    """:func:`pair_constants_for` for a like pair of ``sp`` (m_r = m/2)."""
+    d, omega, _ = sp.parameters(model)
+    return pair_constants_for(0.5 * sp.mass, d, omega, sp.T_ref)
+
+
+def knudsen(mfp, length):
+    """Knudsen number Kn = mean free path / characteristic length."""
+    return np.asarray(mfp, dtype=float) / length
+
+
+# --- Summary for the ``dsmc gas`` command -----------------------------------
+
+def gas_summary(sp: Species, T: float, p: float, length: float | None = None,
+                model: str = "vhs") -> dict[str, tuple[object, str]]:
+    """Equilibrium properties of ``sp`` at (T, p) as ``{key: (value, unit)}``.
+
+    Keys, in print order: gas, model, T, p, n, rho, c_mp, c_mean, c_rms,
+    viscosity, conductivity, mean_free_path, viscosity_mean_free_path,
+    equivalent_free_path, collision_rate, mean_collision_time, and, when
+    ``length`` is given, length and Kn (from the model mean free path).
+    Raises :class:`UserError` for a non-positive T, p or length.
+    """
+    for label, value in (("temperature", T), ("pressure", p), ("length", length)):
+        if value is not None and not float(value) > 0.0:
+            raise UserError(f"{label} must be positive, got {value}")
+    T, p = float(T), float(p)
+    n = float(number_density(p, T))
+    mu = float(viscosity(sp, T, model))
+    mfp = float(mean_free_path(sp, T, n, model))
+    out: dict[str, tuple[object, str]] = {
+        "gas": (f"{sp.name} ({sp.description})", ""),
+        "model": (model.lower(), ""),
+        "T": (T, "K"),
+        "p": (p, "Pa"),
+        "n": (n, "m^-3"),
+        "rho": (n * sp.mass, "kg/m^3"),
+        "c_mp": (float(most_probable_speed(T, sp.mass)), "m/s"),
+        "c_mean": (float(mean_speed(T, sp.mass)), "m/s"),
+        "c_rms": (float(rms_speed(T, sp.mass)), "m/s"),
+        "viscosity": (mu, "Pa s"),
+        "conductivity": (float(conductivity(sp, T, model)), "W/(m K)"),
+        "mean_free_path": (mfp, "m"),
+        "viscosity_mean_free_path": (
+            float(viscosity_mean_free_path(mu, T, n, sp.mass)), "m"),
+        "equivalent_free_path": (
+            float(equivalent_free_path(mu, p, T, sp.mass)), "m"),
+        "collision_rate": (float(collision_rate(sp, T, n, model)), "1/s"),
+        "mean_collision_time": (
+            float(mean_collision_time(sp, T, n, model)), "s"),
+    }
+    if length is not None:
+        out["length"] = (float(length), "m")
+        out["Kn"] = (float(knudsen(mfp, length)), "")
+    return out
