@@ -1,0 +1,379 @@
+"""Case files: TOML text -> validated, frozen dataclasses.
+
+Every user mistake in a case file is raised here as a :class:`CaseError`
+whose one-line message reads ``FILE: key.path: what is wrong``.  The keys,
+units, defaults and ranges are documented in ``docs/case-files.md``; the
+tables below (``_SCHEMA`` and the ``_read_*`` functions) are the single place
+that defines them.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+from dsmc.errors import CaseError, UnknownNameError, nearest
+from dsmc.gas.kinetic import K_B
+from dsmc.gas.species import Species, get_species
+from dsmc.models import COLLISION_MODELS, WALL_MODELS
+
+SIDES_1D = ("xmin", "xmax")
+
+
+@dataclass(frozen=True)
+class GasSpec:
+    species: Species
+    collision_model: str
+    temperature: float  # K, initial gas temperature
+    number_density: float  # 1/m^3, mean over the domain
+    velocity: tuple[float, float, float]  # m/s, initial drift
+
+    @property
+    def pressure(self) -> float:
+        return self.number_density * K_B * self.temperature
+
+
+@dataclass(frozen=True)
+class DomainSpec:
+    length: float  # m
+    cells: int
+
+
+@dataclass(frozen=True)
+class WallSpec:
+    model: str
+    temperature: float  # K
+    velocity: tuple[float, float, float]  # m/s, tangential (x component zero)
+    accommodation: float = 1.0
+    normal_accommodation: float = 1.0
+    tangential_accommodation: float = 1.0
+
+
+@dataclass(frozen=True)
+class InitialSpec:
+    profile: str = "uniform"  # uniform | linear
+
+
+@dataclass(frozen=True)
+class NumericsSpec:
+    particles_per_cell: float = 40.0
+    time_step: float | None = None  # s; None = automatic
+    collision_time_fraction: float = 0.25
+    transit_fraction: float = 0.5
+    partners: str = "subcell"  # subcell | cell
+    subcells: int = 0  # per cell; 0 = automatic
+
+
+@dataclass(frozen=True)
+class RunSpec:
+    seed: int = 1
+    transient_steps: int = 1000
+    sample_steps: int = 5000
+    sample_interval: int = 1
+    batches: int = 20
+
+
+@dataclass(frozen=True)
+class Case:
+    path: str
+    text: str
+    title: str
+    gas: GasSpec
+    domain: DomainSpec
+    walls: tuple[WallSpec, WallSpec]  # (xmin, xmax)
+    initial: InitialSpec = field(default_factory=InitialSpec)
+    numerics: NumericsSpec = field(default_factory=NumericsSpec)
+    run: RunSpec = field(default_factory=RunSpec)
+
+    def with_run(self, **changes) -> "Case":
+        """A copy with some ``[run]`` values replaced (e.g. a seed from the CLI)."""
+        return replace(self, run=replace(self.run, **changes))
+
+
+# ----------------------------------------------------------------------------
+# reading helpers
+
+
+class _Table:
+    """One TOML table being read: typed getters, then a check for leftovers."""
+
+    def __init__(self, data: Any, path: str, file: str):
+        self.file = file
+        self.path = path
+        if not isinstance(data, dict):
+            self.fail(f"must be a table, got {_type_name(data)}")
+        self.data = data
+        self.used: set[str] = set()
+
+    def key(self, name: str) -> str:
+        return f"{self.path}.{name}" if self.path else name
+
+    def fail(self, message: str, key: str | None = None):
+        where = self.key(key) if key is not None else (self.path or "(top level)")
+        raise CaseError(f"{self.file}: {where}: {message}")
+
+    def has(self, name: str) -> bool:
+        return name in self.data
+
+    def _raw(self, name: str, required: bool):
+        self.used.add(name)
+        if name not in self.data:
+            if required:
+                self.fail("required key is missing", name)
+            return None
+        return self.data[name]
+
+    def number(self, name: str, default=None, *, required=False, positive=False,
+               minimum=None, maximum=None, unit="") -> float:
+        raw = self._raw(name, required)
+        if raw is None:
+            return default
+        if isinstance(raw, bool) or not isinstance(raw, (int, float)):
+            self.fail(f"expected a number{_unit(unit)}, got {_type_name(raw)}", name)
+        value = float(raw)
+        if not math.isfinite(value):
+            self.fail(f"must be finite, got {raw}", name)
+        _check_range(self, name, value, positive, minimum, maximum, unit)
+        return value
+
+    def integer(self, name: str, default=None, *, required=False, minimum=None, maximum=None) -> int:
+        raw = self._raw(name, required)
+        if raw is None:
+            return default
+        if isinstance(raw, bool) or not isinstance(raw, int):
+            self.fail(f"expected a whole number, got {_type_name(raw)}", name)
+        _check_range(self, name, raw, False, minimum, maximum, "")
+        return int(raw)
+
+    def choice(self, name: str, choices, default=None, *, required=False) -> str:
+        raw = self._raw(name, required)
+        if raw is None:
+            return default
+        if not isinstance(raw, str):
+            self.fail(f"expected one of {_list(choices)}, got {_type_name(raw)}", name)
+        if raw not in choices:
+            self.fail(f"'{raw}' is not one of {_list(choices)}{nearest(raw, choices)}", name)
+        return raw
+
+    def text(self, name: str, default=None) -> str:
+        raw = self._raw(name, False)
+        if raw is None:
+            return default
+        if not isinstance(raw, str):
+            self.fail(f"expected a string, got {_type_name(raw)}", name)
+        return raw
+
+    def vector3(self, name: str, default=(0.0, 0.0, 0.0), unit="") -> tuple[float, float, float]:
+        raw = self._raw(name, False)
+        if raw is None:
+            return tuple(default)
+        if (not isinstance(raw, list) or len(raw) != 3
+                or any(isinstance(c, bool) or not isinstance(c, (int, float)) for c in raw)):
+            self.fail(f"expected a list of three numbers{_unit(unit)}, got {_short(raw)}", name)
+        if not all(math.isfinite(c) for c in raw):
+            self.fail(f"must be finite, got {raw}", name)
+        return tuple(float(c) for c in raw)
+
+    def table(self, name: str, *, required=False) -> "_Table | None":
+        raw = self._raw(name, required)
+        if raw is None:
+            return None
+        return _Table(raw, self.key(name), self.file)
+
+    def finish(self, allowed=None):
+        """Reject keys that were never read (or are not in ``allowed``)."""
+        known = set(allowed) if allowed is not None else self.used
+        for name in self.data:
+            if name not in known:
+                self.fail(f"unknown key{nearest(name, known)}", name)
+
+
+def _check_range(t: _Table, name, value, positive, minimum, maximum, unit):
+    if positive and not value > 0:
+        t.fail(f"must be positive{_unit(unit)}, got {value:g}", name)
+    if minimum is not None and value < minimum:
+        t.fail(f"must be at least {minimum:g}{_unit(unit)}, got {value:g}", name)
+    if maximum is not None and value > maximum:
+        t.fail(f"must be at most {maximum:g}{_unit(unit)}, got {value:g}", name)
+
+
+def _unit(unit: str) -> str:
+    return f" (in {unit})" if unit else ""
+
+
+def _list(choices) -> str:
+    return ", ".join(f"'{c}'" for c in choices)
+
+
+def _type_name(value) -> str:
+    return {bool: "a boolean", str: "a string", int: "a whole number", float: "a number",
+            list: "a list", dict: "a table"}.get(type(value), type(value).__name__)
+
+
+def _short(value) -> str:
+    text = repr(value)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+# ----------------------------------------------------------------------------
+# sections
+
+_TOP_KEYS = ("title", "gas", "domain", "boundary", "initial", "numerics", "run")
+
+
+def _read_gas(t: _Table) -> GasSpec:
+    name = t._raw("species", True)
+    if not isinstance(name, str):
+        t.fail(f"expected a gas name, got {_type_name(name)}", "species")
+    try:
+        species = get_species(name)
+    except UnknownNameError as err:
+        t.fail(str(err), "species")
+    model = t.choice("collision_model", COLLISION_MODELS, "vhs")
+    temperature = t.number("temperature", required=True, positive=True, maximum=1e5, unit="K")
+    if t.has("pressure") == t.has("number_density"):
+        t.fail("give exactly one of 'pressure' (Pa) and 'number_density' (1/m^3)")
+    if t.has("pressure"):
+        p = t.number("pressure", positive=True, maximum=1e9, unit="Pa")
+        n = p / (K_B * temperature)
+    else:
+        n = t.number("number_density", positive=True, maximum=1e30, unit="1/m^3")
+    velocity = t.vector3("velocity", unit="m/s")
+    t.finish()
+    return GasSpec(species, model, temperature, n, velocity)
+
+
+def _read_domain(t: _Table) -> DomainSpec:
+    length = t.number("length", required=True, positive=True, maximum=1e3, unit="m")
+    cells = t.integer("cells", required=True, minimum=1, maximum=10_000_000)
+    t.finish()
+    return DomainSpec(length, cells)
+
+
+def _read_wall(t: _Table, gas: GasSpec) -> WallSpec:
+    model = t.choice("model", WALL_MODELS, required=True)
+    spec = WALL_MODELS[model]
+    allowed = {"model", "temperature", "velocity", *spec.keys}
+    for name in t.data:  # a key of another wall model: say whose it is
+        owners = [m for m, w in WALL_MODELS.items() if name in w.keys]
+        if name not in allowed and owners:
+            t.fail(f"only used by model '{owners[0]}' (this wall is '{model}')", name)
+    if model == "periodic":
+        t.finish(allowed={"model"})
+        return WallSpec(model, gas.temperature, (0.0, 0.0, 0.0))
+    temperature = t.number("temperature", gas.temperature, positive=True, maximum=1e5, unit="K")
+    velocity = t.vector3("velocity", unit="m/s")
+    if velocity[0] != 0.0:
+        t.fail("the wall-normal (x) component must be 0: walls slide, they do not move through the gas",
+               "velocity")
+    extra = {k: t.number(k, 1.0, minimum=0.0, maximum=1.0) for k in spec.keys}
+    t.finish()
+    return WallSpec(model, temperature, velocity, **extra)
+
+
+def _read_walls(top: _Table, gas: GasSpec) -> tuple[WallSpec, WallSpec]:
+    t = top.table("boundary", required=True)
+    walls = []
+    for side in SIDES_1D:
+        walls.append(_read_wall(t.table(side, required=True), gas))
+    t.finish()
+    if (walls[0].model == "periodic") != (walls[1].model == "periodic"):
+        t.fail("'periodic' must be given on both xmin and xmax")
+    return walls[0], walls[1]
+
+
+def _read_initial(t: _Table | None) -> InitialSpec:
+    if t is None:
+        return InitialSpec()
+    spec = InitialSpec(profile=t.choice("profile", ("uniform", "linear"), "uniform"))
+    t.finish()
+    return spec
+
+
+def _read_numerics(t: _Table | None) -> NumericsSpec:
+    if t is None:
+        return NumericsSpec()
+    d = NumericsSpec()
+    ppc = t.number("particles_per_cell", d.particles_per_cell, minimum=1.0, maximum=1e6)
+    dt = None
+    if t.has("time_step"):
+        raw = t.data["time_step"]
+        if raw == "auto":
+            t.used.add("time_step")
+        else:
+            dt = t.number("time_step", positive=True, unit="s")
+    spec = NumericsSpec(
+        particles_per_cell=ppc,
+        time_step=dt,
+        collision_time_fraction=t.number("collision_time_fraction", d.collision_time_fraction,
+                                         positive=True, maximum=10.0),
+        transit_fraction=t.number("transit_fraction", d.transit_fraction, positive=True, maximum=10.0),
+        partners=t.choice("partners", ("subcell", "cell"), d.partners),
+        subcells=t.integer("subcells", d.subcells, minimum=0, maximum=10_000),
+    )
+    t.finish()
+    return spec
+
+
+def _read_run(t: _Table | None) -> RunSpec:
+    if t is None:
+        return RunSpec()
+    d = RunSpec()
+    spec = RunSpec(
+        seed=t.integer("seed", d.seed, minimum=0, maximum=2**63 - 1),
+        transient_steps=t.integer("transient_steps", d.transient_steps, minimum=0, maximum=10**12),
+        sample_steps=t.integer("sample_steps", d.sample_steps, minimum=1, maximum=10**12),
+        sample_interval=t.integer("sample_interval", d.sample_interval, minimum=1, maximum=10**9),
+        batches=t.integer("batches", d.batches, minimum=2, maximum=10_000),
+    )
+    t.finish()
+    if spec.sample_steps // spec.sample_interval < spec.batches:
+        t.fail(f"sample_steps / sample_interval = {spec.sample_steps // spec.sample_interval} samples "
+               f"cannot fill {spec.batches} batches")
+    return spec
+
+
+# ----------------------------------------------------------------------------
+# entry points
+
+
+def parse_case(text: str, path: str = "<case>") -> Case:
+    """Parse and validate case-file text; ``path`` names it in error messages."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise CaseError(f"{path}: not valid TOML: {err}") from None
+    top = _Table(data, "", path)
+    for name in data:
+        if name not in _TOP_KEYS:
+            top.fail(f"unknown section{nearest(name, _TOP_KEYS)}", name)
+    title = top.text("title", Path(path).stem)
+    gas = _read_gas(top.table("gas", required=True))
+    domain = _read_domain(top.table("domain", required=True))
+    walls = _read_walls(top, gas)
+    initial = _read_initial(top.table("initial"))
+    numerics = _read_numerics(top.table("numerics"))
+    run = _read_run(top.table("run"))
+    top.finish()
+    return Case(path, text, title, gas, domain, walls, initial, numerics, run)
+
+
+def load_case(path: str | Path) -> Case:
+    """Read and validate a case file."""
+    p = Path(path)
+    try:
+        raw = p.read_bytes()
+    except FileNotFoundError:
+        raise CaseError(f"{p}: no such case file") from None
+    except IsADirectoryError:
+        raise CaseError(f"{p}: is a directory, not a case file") from None
+    except OSError as err:
+        raise CaseError(f"{p}: cannot read: {err.strerror}") from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError:
+        raise CaseError(f"{p}: not a UTF-8 text file") from None
+    return parse_case(text, str(p))

@@ -1,0 +1,168 @@
+"""Command-line entry point ``dsmc``.
+
+User errors (bad case file, unknown gas, missing file) print one line
+``dsmc: error: ...`` and exit with status 2; anything else is a bug and keeps
+its traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from pathlib import Path
+
+from dsmc import __version__
+from dsmc.errors import UserError
+
+EXIT_USER_ERROR = 2
+
+
+def _fmt(value) -> str:
+    if isinstance(value, float):
+        return f"{value:.4g}"
+    return str(value)
+
+
+def _print_adequacy(figures: dict, warnings: list[str], out=sys.stdout):
+    print("numerical adequacy:", file=out)
+    for k, v in figures.items():
+        print(f"  {k:48s} {_fmt(float(v))}", file=out)
+    for w in warnings:
+        print(f"  warning: {w}", file=out)
+
+
+def _progress(every: float):
+    """A callback printing a log line every ``every`` seconds (to stderr)."""
+    state = {"t": time.perf_counter(), "t0": time.perf_counter()}
+
+    def cb(sim, _i):
+        now = time.perf_counter()
+        if now - state["t"] >= every:
+            state["t"] = now
+            r = sim.case.run
+            total = r.transient_steps + r.sample_steps
+            print(f"step {sim.step_count}/{total}  particles {sim.n_particles}  "
+                  f"elapsed {now - state['t0']:.0f} s", file=sys.stderr, flush=True)
+
+    return cb
+
+
+def cmd_run(args) -> int:
+    from dsmc.case import load_case
+    from dsmc.io.results import write_results
+    from dsmc.simulation import Simulation, adequacy_warnings, result_tree, set_threads
+
+    case = load_case(args.case)
+    out = Path(args.output) if args.output else Path(Path(args.case).stem + ".h5")
+    if out.exists() and not args.force:
+        raise UserError(f"{out}: exists already (use --force to replace it)")
+    set_threads(args.threads)
+    sim = Simulation(case, seed=args.seed)
+    if not args.quiet:
+        print(f"case {case.path}: {case.title}")
+        print(f"particles {sim.n_particles}, cells {sim.grid.cells}, time step {sim.dt:.4g} s, "
+              f"steps {case.run.transient_steps} + {case.run.sample_steps}")
+        figures = sim.adequacy()
+        _print_adequacy(figures, adequacy_warnings(figures))
+    sim.run(callback=None if args.quiet else _progress(args.log_every))
+    write_results(out, result_tree(sim), overwrite=args.force)
+    if not args.quiet:
+        figures = sim.adequacy(measured=True)
+        print(f"done in {sim.wall_time:.1f} s "
+              f"({sim.n_particles * sim.step_count / max(sim.wall_time, 1e-9) / 1e6:.1f} M particle-steps/s)")
+        _print_adequacy(figures, adequacy_warnings(figures))
+        for side, w in zip(("xmin", "xmax"), sim.wall_fields()):
+            tau, tau_se = w["shear_stress"]
+            q, q_se = w["heat_flux"]
+            p, p_se = w["pressure"]
+            print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_y {tau[1]:.5g} +- "
+                  f"{tau_se[1]:.2g} Pa, heat flux into wall {q:.5g} +- {q_se:.2g} W/m^2")
+        print(f"wrote {out}")
+    return 0
+
+
+def cmd_check(args) -> int:
+    from dsmc.case import load_case
+    from dsmc.simulation import Simulation, adequacy_warnings
+
+    case = load_case(args.case)
+    sim = Simulation(case, seed=args.seed)
+    ref = sim.reference_state()
+    print(f"case {case.path}: {case.title}: valid")
+    print(f"gas {case.gas.species.name} ({case.gas.collision_model}), T {case.gas.temperature:g} K, "
+          f"p {case.gas.pressure:.5g} Pa, n {case.gas.number_density:.5g} 1/m^3")
+    print(f"mean free path {ref['mean_free_path']:.4g} m, mean collision time "
+          f"{ref['mean_collision_time']:.4g} s")
+    print(f"particles {sim.n_particles}, cells {sim.grid.cells}, time step {sim.dt:.4g} s, "
+          f"particle weight {sim.weight:.4g}")
+    figures = sim.adequacy()
+    warnings = adequacy_warnings(figures)
+    _print_adequacy(figures, warnings)
+    return 0
+
+
+def cmd_gas(args) -> int:
+    from dsmc.gas.kinetic import gas_summary
+    from dsmc.gas.species import get_species
+
+    sp = get_species(args.name)
+    summary = gas_summary(sp, args.T, args.p, args.length, args.model)
+    for key, (val, unit) in summary.items():
+        text = _fmt(val) if isinstance(val, float) else str(val)
+        print(f"{key:26s} {text} {unit}".rstrip())
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="dsmc", description="Direct-simulation Monte Carlo for "
+                                "rarefied planar gas flows.")
+    p.add_argument("--version", action="version", version=f"dsmc {__version__}")
+    sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    r = sub.add_parser("run", help="run a case file and write an HDF5 result",
+                       description="Run a case file; write fields and wall data to HDF5.")
+    r.add_argument("case", help="case file (TOML)")
+    r.add_argument("-o", "--output", help="result file (default: CASE-NAME.h5 here)")
+    r.add_argument("--seed", type=int, help="random seed (overrides [run] seed)")
+    r.add_argument("--threads", type=int, help="kernel threads (default: all cores)")
+    r.add_argument("--force", action="store_true", help="replace an existing result file")
+    r.add_argument("--quiet", action="store_true", help="print nothing but errors")
+    r.add_argument("--log-every", type=float, default=10.0, metavar="S",
+                   help="seconds between progress lines (default 10)")
+    r.set_defaults(func=cmd_run)
+
+    c = sub.add_parser("check", help="validate a case and report its numerical adequacy",
+                       description="Validate a case file and print the adequacy figures "
+                                   "(cell size, time step, particles per cell) without running.")
+    c.add_argument("case", help="case file (TOML)")
+    c.add_argument("--seed", type=int)
+    c.set_defaults(func=cmd_check)
+
+    g = sub.add_parser("gas", help="transport properties, mean free path and Knudsen number",
+                       description="Equilibrium kinetic-theory properties of a gas from the "
+                                   "species table.")
+    g.add_argument("name", help="gas name, e.g. Ar, N2, air")
+    g.add_argument("--T", type=float, default=273.15, help="temperature, K (default 273.15)")
+    g.add_argument("--p", type=float, default=101325.0, help="pressure, Pa (default 101325)")
+    g.add_argument("--length", type=float, help="characteristic length, m (gives Kn)")
+    g.add_argument("--model", default="vhs", help="collision model: hs, vhs, vss (default vhs)")
+    g.set_defaults(func=cmd_gas)
+    return p
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return args.func(args)
+    except UserError as err:
+        print(f"dsmc: error: {err}", file=sys.stderr)
+        return EXIT_USER_ERROR
+    except KeyboardInterrupt:
+        print("dsmc: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,44 @@
+"""Per-cell velocity moments for the macroscopic fields.
+
+For each cell ``c`` and species ``s`` the kernel adds, over the particles of
+the cell (sorted order), the raw moments
+
+    0: count   1-3: v_x, v_y, v_z   4-6: v_x^2, v_y^2, v_z^2
+    7: v_x v_y   8: v_x v_z   9: v_y v_z   10-12: |v|^2 v_x, |v|^2 v_y, |v|^2 v_z
+
+from which :mod:`dsmc.stats` forms density, velocity, pressure tensor,
+temperatures and heat flux.
+"""
+
+from __future__ import annotations
+
+import numba as nb
+
+N_MOMENTS = 13
+
+
+@nb.njit(parallel=True, cache=True)
+def sample_cells(v, sp, cell_start, acc):
+    """Add the raw moments of every cell to ``acc`` (n_cells, n_species, 13)."""
+    n_cells = cell_start.size - 1
+    for c in nb.prange(n_cells):
+        for i in range(cell_start[c], cell_start[c + 1]):
+            s = sp[i]
+            vx = v[i, 0]
+            vy = v[i, 1]
+            vz = v[i, 2]
+            v2 = vx * vx + vy * vy + vz * vz
+            a = acc[c, s]
+            a[0] += 1.0
+            a[1] += vx
+            a[2] += vy
+            a[3] += vz
+            a[4] += vx * vx
+            a[5] += vy * vy
+            a[6] += vz * vz
+            a[7] += vx * vy
+            a[8] += vx * vz
+            a[9] += vy * vz
+            a[10] += v2 * vx
+            a[11] += v2 * vy
+            a[12] += v2 * vz

@@ -1,0 +1,473 @@
+"""The simulation: arrays built from a :class:`~dsmc.case.Case`, and the time loop.
+
+One step is: move (with wall interactions) -> sort by cell -> collide.
+Samples are taken alternately just before and just after the collisions.
+Why: the particles fly with their post-collision velocities, so the fluxes
+that actually cross a plane during a flight are those of the state half-way
+through it.  A sample taken only after the collisions misses half a step of
+relaxation and underestimates the shear stress and heat flux by a relative
+amount of about ``dt p / (2 mu)`` (2-4 % at common time steps; measured here
+against the momentum flux counted through planes and into the walls, which
+it then matches).  Alternating the two sample points centres the samples in
+time at no extra cost.
+
+The schedule is a transient of ``transient_steps`` steps, then
+``sample_steps`` steps in which fields are sampled every ``sample_interval``
+steps into ``batches`` consecutive batches (for standard errors, see
+:mod:`dsmc.stats`).  Wall fluxes are accumulated on every sampling step.
+
+The class holds arrays and a schedule; it does not parse, write files or
+print.  Scripts use it directly::
+
+    from dsmc.case import load_case
+    from dsmc.simulation import Simulation
+
+    sim = Simulation(load_case("cases/argon-couette-transitional.toml"))
+    sim.advance(500)                 # transient, not sampled
+    sim.velocities[:, 1] += 10.0     # read or change particle arrays
+    sim.advance(2000, sample=True)
+    f = sim.fields()                 # {"velocity": (mean, stderr), ...}
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass
+
+import numba
+import numpy as np
+
+from dsmc import stats
+from dsmc.case import Case
+from dsmc.gas import kinetic
+from dsmc.grid import UNIT_AREA, Grid1D
+from dsmc.kernels.collide import N_COLL_STATS, collide_ntc
+from dsmc.kernels.move import N_WALL_ACC, move_1d, n_blocks
+from dsmc.kernels.rng import fill_cells_1d, new_streams
+from dsmc.kernels.sample import N_MOMENTS, sample_cells
+from dsmc.kernels.sort import cell_starts, counting_sort, keys_1d
+from dsmc.models import COLLISION_MODELS, wall_row
+from dsmc.particles import Particles
+
+BLOCK_SIZE = 4096  # particles per random stream in the move kernel
+WALL_NORMALS = (np.array([1.0, 0.0]), np.array([-1.0, 0.0]))  # into the gas at xmin, xmax
+
+
+@dataclass
+class _Batch:
+    moments: np.ndarray  # (cells, species, 13)
+    walls: np.ndarray  # (2, 5)
+    collisions: np.ndarray  # (cells, 2)
+    samples: int = 0
+    steps: int = 0
+
+
+class Simulation:
+    """A 1-D planar DSMC run of one case."""
+
+    def __init__(self, case: Case, seed: int | None = None):
+        self.case = case
+        self.seed = case.run.seed if seed is None else int(seed)
+        gas = case.gas
+        self.grid = Grid1D(case.domain.length, case.domain.cells)
+        self.species = [gas.species]
+        self.mass = np.array([s.mass for s in self.species])
+        self.volume = self.grid.volumes
+        n_target = case.numerics.particles_per_cell * self.grid.cells
+        self.weight = gas.number_density * self.grid.length * UNIT_AREA / n_target
+        self.pair_c, self.pair_exp, self.pair_alpha = self._pair_tables()
+        self.walls = np.array([wall_row(w.model, w.temperature, w.velocity, w.accommodation,
+                                        w.normal_accommodation, w.tangential_accommodation)
+                               for w in case.walls])
+        self.dt = case.numerics.time_step or self.auto_time_step()
+        self.n_sub = 1
+        if case.numerics.partners == "subcell":
+            self.n_sub = case.numerics.subcells or max(1, int(case.numerics.particles_per_cell // 8))
+
+        root = np.random.SeedSequence(self.seed)
+        init_seq, move_seq, coll_seq = root.spawn(3)
+        self.init_state = new_streams(init_seq, 1)
+        self.move_state = new_streams(move_seq, n_blocks(int(1.2 * n_target) + 1, BLOCK_SIZE))
+        self.coll_state = new_streams(coll_seq, self.grid.cells)
+
+        nc = self.grid.cells
+        self.sgmax = np.empty(nc)
+        self.remainder = np.zeros(nc)
+        self.cell_start = np.zeros(nc + 1, dtype=np.int64)
+        self._key_start = np.zeros(nc * self.n_sub + 1, dtype=np.int64)
+        self.particles = Particles(int(1.2 * n_target) + 16, dim=1)
+        self._key = np.empty(self.particles.capacity, dtype=np.int32)
+        self._perm = np.empty(self.particles.capacity, dtype=np.int64)
+        self._wall_acc = np.zeros((self.move_state.shape[0], 2, N_WALL_ACC))
+        self._coll = np.zeros((nc, N_COLL_STATS))
+        self.step_count = 0
+        self.wall_time = 0.0
+        self._initialise()
+        self.reset_samples()
+
+    # ------------------------------------------------------------------ set-up
+
+    def _pair_tables(self):
+        model = COLLISION_MODELS[self.case.gas.collision_model].name
+        ns = len(self.species)
+        c = np.empty((ns, ns))
+        e = np.empty((ns, ns))
+        a = np.empty((ns, ns))
+        for i, s in enumerate(self.species):
+            # like pairs only until mixtures are supported
+            C, exponent = kinetic.pair_constants(s, model)
+            c[i, i] = C
+            e[i, i] = 0.5 * exponent  # kernel raises g^2 to this power
+            a[i, i] = s.parameters(model)[2]
+        return c, e, a
+
+    @property
+    def model(self) -> str:
+        return self.case.gas.collision_model
+
+    def reference_state(self) -> dict[str, float]:
+        """Mean free path, collision time and speeds at the initial gas state."""
+        gas = self.case.gas
+        sp = gas.species
+        T_max = max([gas.temperature] + [w.temperature for w in self.case.walls])
+        return {
+            "mean_free_path": float(kinetic.mean_free_path(sp, gas.temperature, gas.number_density,
+                                                           self.model)),
+            "mean_collision_time": float(kinetic.mean_collision_time(sp, gas.temperature,
+                                                                     gas.number_density, self.model)),
+            "most_probable_speed": float(kinetic.most_probable_speed(T_max, sp.mass)),
+        }
+
+    def auto_time_step(self) -> float:
+        """``min(f_c tau_c, f_x dx / c_mp)`` at the initial state and the hottest wall.
+
+        ``f_c`` (collision_time_fraction) and ``f_x`` (transit_fraction) come
+        from ``[numerics]``; keeping the step a fraction of the mean collision
+        time and of the cell transit time is common practice.
+        """
+        ref = self.reference_state()
+        num = self.case.numerics
+        return min(num.collision_time_fraction * ref["mean_collision_time"],
+                   num.transit_fraction * self.grid.dx / ref["most_probable_speed"])
+
+    def _initial_profiles(self):
+        """Cell-centre temperature, drift and relative density of the initial gas."""
+        case = self.case
+        xc = self.grid.centers / self.grid.length
+        nc = self.grid.cells
+        if case.initial.profile == "linear" and case.walls[0].model != "periodic":
+            w0, w1 = case.walls
+            T = w0.temperature + (w1.temperature - w0.temperature) * xc
+            u = np.outer(1 - xc, w0.velocity) + np.outer(xc, w1.velocity)
+            u[:, 0] = case.gas.velocity[0]
+            rel = (1.0 / T) / np.mean(1.0 / T)  # uniform pressure
+        else:
+            T = np.full(nc, case.gas.temperature)
+            u = np.tile(np.asarray(case.gas.velocity, dtype=float), (nc, 1))
+            rel = np.ones(nc)
+        return T, u, rel
+
+    def _initialise(self):
+        T, u, rel = self._initial_profiles()
+        ppc = self.case.numerics.particles_per_cell
+        rng = np.random.Generator(np.random.PCG64(self.init_state[0, 0]))
+        expected = ppc * rel
+        counts = np.floor(expected + rng.random(expected.size)).astype(np.int64)
+        start = np.zeros(counts.size + 1, dtype=np.int64)
+        np.cumsum(counts, out=start[1:])
+        n = int(start[-1])
+        self._reserve(n)
+        p = self.particles
+        p.n = n
+        sigma = np.sqrt(kinetic.K_B * T / self.mass[0])
+        fill_cells_1d(self.init_state, 0, start, self.grid.dx, sigma, np.ascontiguousarray(u),
+                      p.pos, p.v)
+        p.sp[:n] = 0
+        p.set_identities()
+        # initial (sigma g)_max: at a relative speed of 3 most probable relative speeds
+        g_ref = 3.0 * math.sqrt(4.0 * kinetic.K_B * max(T.max(), 1.0) / self.mass[0])
+        self.sgmax[:] = self.pair_c[0, 0] * g_ref ** (2.0 * self.pair_exp[0, 0])
+        self._sort()
+
+    def _reserve(self, n: int):
+        p = self.particles
+        if n > p.capacity:
+            p.reserve(n)
+            self._key = np.empty(p.capacity, dtype=np.int32)
+            self._perm = np.empty(p.capacity, dtype=np.int64)
+        nb_needed = n_blocks(n, BLOCK_SIZE)
+        if nb_needed > self.move_state.shape[0]:
+            extra = nb_needed - self.move_state.shape[0]
+            seq = np.random.SeedSequence(self.seed, spawn_key=(3, self.move_state.shape[0]))
+            self.move_state = np.concatenate([self.move_state, new_streams(seq, extra)])
+            self._wall_acc = np.zeros((nb_needed, 2, N_WALL_ACC))
+
+    # --------------------------------------------------------------- particles
+
+    @property
+    def n_particles(self) -> int:
+        return self.particles.n
+
+    @property
+    def positions(self) -> np.ndarray:
+        """Live particle positions, shape (n, 1), m (a view: writes change the run)."""
+        return self.particles.pos[: self.particles.n]
+
+    @property
+    def velocities(self) -> np.ndarray:
+        """Live particle velocities, shape (n, 3), m/s (a view)."""
+        return self.particles.v[: self.particles.n]
+
+    def set_particles(self, positions: np.ndarray, velocities: np.ndarray):
+        """Replace all particles (positions (n,) or (n, 1) in [0, L], velocities (n, 3))."""
+        pos = np.asarray(positions, dtype=float).reshape(-1, 1)
+        vel = np.asarray(velocities, dtype=float).reshape(-1, 3)
+        if pos.shape[0] != vel.shape[0]:
+            raise ValueError("positions and velocities differ in length")
+        if np.any(pos < 0) or np.any(pos > self.grid.length):
+            raise ValueError("positions outside the domain")
+        self._reserve(pos.shape[0])
+        p = self.particles
+        p.n = pos.shape[0]
+        p.pos[: p.n] = pos
+        p.v[: p.n] = vel
+        p.sp[: p.n] = 0
+        p.set_identities()
+        self._sort()
+
+    # -------------------------------------------------------------------- loop
+
+    def _sort(self):
+        p = self.particles
+        nk = self.grid.cells * self.n_sub
+        keys_1d(p.pos, p.n, self.grid.length, self.grid.cells, self.n_sub, self._key)
+        counting_sort(self._key, p.n, nk, self._key_start, self._perm)
+        p.reorder(self._perm)
+        cell_starts(self._key_start, self.grid.cells, self.n_sub, self.cell_start)
+
+    def step(self, sample: bool = False):
+        """One time step; with ``sample`` the wall fluxes and (on schedule) cell moments count."""
+        p = self.particles
+        move_1d(p.pos, p.v, p.sp, p.n, self.dt, self.grid.length, self.walls, self.mass,
+                self.move_state, BLOCK_SIZE, self._wall_acc)
+        self._sort()
+        take = False
+        if sample:
+            self._since_sample += 1
+            take = self._since_sample >= self._interval
+        if take and self._batch.samples % 2 == 0:
+            sample_cells(p.v, p.sp, self.cell_start, self._batch.moments)  # before collisions
+        collide_ntc(p.pos, p.v, p.sp, p.pid, p.last, self.cell_start, self._key_start, self.n_sub, self.volume, self.weight, self.dt,
+                    self.sgmax, self.remainder, self.pair_c, self.pair_exp, self.pair_alpha,
+                    self.mass, self.coll_state, 0, self._coll)
+        self.step_count += 1
+        if sample:
+            b = self._batch
+            b.walls += self._wall_acc[: n_blocks(p.n, BLOCK_SIZE)].sum(axis=0)
+            b.steps += 1
+            if take:
+                if b.samples % 2 == 1:
+                    sample_cells(p.v, p.sp, self.cell_start, b.moments)  # after collisions
+                b.samples += 1
+                self._since_sample = 0
+
+    def advance(self, steps: int, sample: bool = False, callback=None):
+        """Run ``steps`` steps; ``callback(sim, i)`` is called after each one."""
+        t0 = time.perf_counter()
+        for i in range(int(steps)):
+            self.step(sample)
+            if callback is not None:
+                callback(self, i)
+        self.wall_time += time.perf_counter() - t0
+
+    def _new_batch(self) -> _Batch:
+        nc, ns = self.grid.cells, len(self.species)
+        return _Batch(np.zeros((nc, ns, N_MOMENTS)), np.zeros((2, N_WALL_ACC)),
+                      np.zeros((nc, N_COLL_STATS)))
+
+    def reset_samples(self, interval: int | None = None):
+        """Discard samples; later sampled steps sample every ``interval`` steps."""
+        self._interval = interval or self.case.run.sample_interval
+        self._since_sample = 0
+        self.batches: list[_Batch] = []
+        self._batch = self._new_batch()
+        self._coll[:] = 0.0
+
+    def close_batch(self):
+        """End the current batch (batches give the standard errors)."""
+        self._batch.collisions = self._coll.copy()
+        self._coll[:] = 0.0
+        self.batches.append(self._batch)
+        self._batch = self._new_batch()
+
+    def run(self, callback=None):
+        """The case's schedule: transient, then sampling in batches."""
+        r = self.case.run
+        self.advance(r.transient_steps, sample=False, callback=callback)
+        self.reset_samples()
+        per_batch = r.sample_steps // r.batches
+        for b in range(r.batches):
+            steps = per_batch if b < r.batches - 1 else r.sample_steps - per_batch * (r.batches - 1)
+            self.advance(steps, sample=True, callback=callback)
+            self.close_batch()
+
+    # ----------------------------------------------------------------- results
+
+    def _closed_batches(self) -> list[_Batch]:
+        batches = [b for b in self.batches if b.samples > 0]
+        if not batches:
+            raise RuntimeError("no samples taken: run or advance(..., sample=True) first")
+        return batches
+
+    def fields(self) -> dict[str, tuple[np.ndarray, np.ndarray]]:
+        """Cell fields as ``{name: (mean, standard error)}`` over the closed batches."""
+        batches = self._closed_batches()
+        per = [stats.cell_fields(b.moments, b.samples, self.weight, self.volume, self.mass)
+               for b in batches]
+        total = stats.cell_fields(sum(b.moments for b in batches), sum(b.samples for b in batches),
+                                  self.weight, self.volume, self.mass)
+        return {k: (total[k], stats.batch_error(np.stack([f[k] for f in per])))
+                for k in total}
+
+    def wall_fields(self) -> list[dict[str, tuple[np.ndarray, np.ndarray]]]:
+        """Per wall (xmin, xmax): ``{name: (mean, standard error)}``."""
+        batches = self._closed_batches()
+        out = []
+        for w in range(2):
+            args = (self.weight, UNIT_AREA, WALL_NORMALS[w], self.walls[w, 2:5])
+            per = [stats.wall_fields(b.walls[w], b.steps * self.dt, *args) for b in batches]
+            total = stats.wall_fields(sum(b.walls[w] for b in batches),
+                                      sum(b.steps for b in batches) * self.dt, *args)
+            out.append({k: (total[k], stats.batch_error(np.stack([f[k] for f in per])))
+                        for k in total})
+        return out
+
+    def collision_summary(self) -> dict[str, float]:
+        """Measured collision rate per particle and mean collision separation."""
+        batches = self._closed_batches()
+        coll = sum(b.collisions for b in batches)
+        steps = sum(b.steps for b in batches)
+        n_col = coll[:, 0].sum()
+        rate = 2.0 * n_col / (self.n_particles * steps * self.dt) if steps else float("nan")
+        mcs = coll[:, 1].sum() / n_col if n_col else float("nan")
+        return {"collision_rate": rate, "collisions": float(n_col),
+                "mean_collision_separation": mcs}
+
+    def adequacy(self, measured: bool = False) -> dict[str, float]:
+        """Numerical adequacy figures; with ``measured``, from the sampled run."""
+        ref = self.reference_state()
+        lam, tau = ref["mean_free_path"], ref["mean_collision_time"]
+        out = {
+            "cell_size_over_mean_free_path": self.grid.dx / lam,
+            "time_step_over_collision_time": self.dt / tau,
+            "cell_transit_fraction": self.dt * ref["most_probable_speed"] / self.grid.dx,
+            "particles_per_cell": self.n_particles / self.grid.cells,
+            "knudsen_number": lam / self.grid.length,
+        }
+        if measured:
+            f = self.fields()
+            c = self.collision_summary()
+            out["particles_per_cell_min"] = float(np.nanmin(f["particles_per_cell"][0]))
+            out["time_step_over_collision_time"] = self.dt * c["collision_rate"]
+            out["mean_collision_separation_over_mean_free_path"] = c["mean_collision_separation"] / lam
+        return out
+
+
+def set_threads(n: int | None):
+    """Use ``n`` threads in the kernels (None: numba's default, i.e. all cores)."""
+    if n:
+        numba.set_num_threads(int(n))
+
+
+# Common-practice bounds on the adequacy figures: (name, kind, bound, advice)
+ADEQUACY_LIMITS = (
+    ("cell_size_over_mean_free_path", "max", 0.5, "use more cells (common practice: cells below about lambda/3)"),
+    ("time_step_over_collision_time", "max", 0.5, "use a smaller time step (common practice: dt below tau_c/4)"),
+    ("cell_transit_fraction", "max", 1.0, "use a smaller time step: particles cross more than a cell per step"),
+    ("particles_per_cell", "min", 20.0, "use more particles per cell (common practice: 20 or more)"),
+    ("particles_per_cell_min", "min", 5.0, "some cells hold very few particles"),
+    ("mean_collision_separation_over_mean_free_path", "max", 0.25,
+     "collision partners are far apart: use more particles or subcells"),
+)
+
+
+def adequacy_warnings(figures: dict[str, float]) -> list[str]:
+    """One line per figure outside its common-practice bound."""
+    out = []
+    for name, kind, bound, advice in ADEQUACY_LIMITS:
+        value = figures.get(name)
+        if value is None or not np.isfinite(value):
+            continue
+        if (kind == "max" and value > bound) or (kind == "min" and value < bound):
+            rel = ">" if kind == "max" else "<"
+            out.append(f"{name} = {value:.3g} {rel} {bound:g}: {advice}")
+    return out
+
+
+def result_tree(sim: Simulation) -> dict:
+    """Everything a result file holds, as a tree for :func:`dsmc.io.results.write_results`."""
+    from dsmc import __version__
+    from dsmc.io.results import Data
+
+    case = sim.case
+    fields = sim.fields()
+    walls = sim.wall_fields()
+    adequacy = sim.adequacy(measured=True)
+    coll = sim.collision_summary()
+    ref = sim.reference_state()
+    batches = sim._closed_batches()
+
+    def pair(group_units, values):
+        out = {}
+        for name, (mean, err) in values.items():
+            out[name] = Data(mean, group_units[name])
+            out[name + "_stderr"] = Data(err, group_units[name])
+        return out
+
+    tree = {
+        "@attrs": {"title": case.title, "package_version": __version__,
+                   "created": time.strftime("%Y-%m-%dT%H:%M:%S%z"), "dimension": 1},
+        "case": {"@attrs": {"path": str(case.path), "text": case.text}},
+        "gas": {
+            "@attrs": {"species": ";".join(s.name for s in sim.species),
+                       "collision_model": sim.model},
+            "mass": Data(sim.mass, "kg"),
+        },
+        "run": {
+            "@attrs": {"seed": sim.seed, "threads": numba.get_num_threads()},
+            "time_step": Data(sim.dt, "s"),
+            "steps": Data(sim.step_count, "1"),
+            "sampled_steps": Data(sum(b.steps for b in batches), "1"),
+            "samples": Data(sum(b.samples for b in batches), "1"),
+            "batches": Data(len(batches), "1"),
+            "particles": Data(sim.n_particles, "1"),
+            "particle_weight": Data(sim.weight, "1"),
+            "wall_time": Data(sim.wall_time, "s"),
+            "collision_rate": Data(coll["collision_rate"], "1/s"),
+            "mean_collision_separation": Data(coll["mean_collision_separation"], "m"),
+            "reference_mean_free_path": Data(ref["mean_free_path"], "m"),
+            "reference_collision_time": Data(ref["mean_collision_time"], "s"),
+        },
+        "adequacy": {
+            "@attrs": {"warnings": "\n".join(adequacy_warnings(adequacy))},
+            **{k: Data(v, "1") for k, v in adequacy.items()},
+        },
+        "grid": {
+            "x": Data(sim.grid.centers, "m"),
+            "x_edges": Data(sim.grid.edges, "m"),
+            "cell_volume": Data(sim.volume, "m^3"),
+        },
+        "fields": pair(stats.FIELD_UNITS, fields),
+        "walls": {},
+    }
+    for side, w, spec, normal in zip(("xmin", "xmax"), walls, case.walls, WALL_NORMALS):
+        g = pair(stats.WALL_UNITS, w)
+        g["@attrs"] = {"model": spec.model, "accommodation": spec.accommodation,
+                       "normal_accommodation": spec.normal_accommodation,
+                       "tangential_accommodation": spec.tangential_accommodation}
+        g["temperature"] = Data(spec.temperature, "K")
+        g["velocity"] = Data(np.asarray(spec.velocity), "m/s")
+        g["normal"] = Data(np.array([normal[0], normal[1], 0.0]), "1")
+        tree["walls"][side] = g
+    return tree
