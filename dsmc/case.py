@@ -63,8 +63,6 @@ class NumericsSpec:
     time_step: float | None = None  # s; None = automatic
     collision_time_fraction: float = 0.25
     transit_fraction: float = 0.5
-    partners: str = "subcell"  # subcell | cell
-    subcells: int = 0  # per cell; 0 = automatic
 
 
 @dataclass(frozen=True)
@@ -311,8 +309,6 @@ def _read_numerics(t: _Table | None) -> NumericsSpec:
         collision_time_fraction=t.number("collision_time_fraction", d.collision_time_fraction,
                                          positive=True, maximum=10.0),
         transit_fraction=t.number("transit_fraction", d.transit_fraction, positive=True, maximum=10.0),
-        partners=t.choice("partners", ("subcell", "cell"), d.partners),
-        subcells=t.integer("subcells", d.subcells, minimum=0, maximum=10_000),
     )
     t.finish()
     return spec

@@ -7,12 +7,10 @@ import numpy as np
 from dsmc.kernels.sort import gather
 
 SPECIES_DTYPE = np.uint8
-NO_PARTNER = np.uint32(0xFFFFFFFF)
 
 
 class Particles:
-    """Positions ``pos`` (n, dim), velocities ``v`` (n, 3), species ``sp`` (n,),
-    identity ``pid`` and last collision partner ``last`` (n,).
+    """Positions ``pos`` (n, dim), velocities ``v`` (n, 3), species ``sp`` (n,).
 
     Arrays have room for ``capacity`` particles; the first ``n`` are live.
     :meth:`reorder` applies a permutation through scratch arrays of the same
@@ -28,13 +26,9 @@ class Particles:
         self.pos = np.zeros((cap, self.dim))
         self.v = np.zeros((cap, 3))
         self.sp = np.zeros(cap, dtype=SPECIES_DTYPE)
-        self.pid = np.zeros(cap, dtype=np.uint32)
-        self.last = np.full(cap, NO_PARTNER, dtype=np.uint32)
         self._pos = np.empty_like(self.pos)
         self._v = np.empty_like(self.v)
         self._sp = np.empty_like(self.sp)
-        self._pid = np.empty_like(self.pid)
-        self._last = np.empty_like(self.last)
 
     @property
     def capacity(self) -> int:
@@ -51,26 +45,16 @@ class Particles:
             a[:n] = b
 
     def _live(self):
-        return self.pos, self.v, self.sp, self.pid, self.last
-
-    def set_identities(self, first: int = 0):
-        """Give the live particles fresh identities and no last partner."""
-        self.pid[: self.n] = np.arange(first, first + self.n, dtype=np.uint32)
-        self.last[: self.n] = NO_PARTNER
+        return self.pos, self.v, self.sp
 
     def reorder(self, perm: np.ndarray):
         n = self.n
         gather(self.pos, self._pos, perm, n)
         gather(self.v, self._v, perm, n)
         gather(self.sp, self._sp, perm, n)
-        gather(self.pid, self._pid, perm, n)
-        gather(self.last, self._last, perm, n)
         self.pos, self._pos = self._pos, self.pos
         self.v, self._v = self._v, self.v
         self.sp, self._sp = self._sp, self.sp
-        self.pid, self._pid = self._pid, self.pid
-        self.last, self._last = self._last, self.last
 
     def nbytes(self) -> int:
-        return sum(a.nbytes for a in (*self._live(), self._pos, self._v, self._sp, self._pid,
-                                      self._last))
+        return sum(a.nbytes for a in (*self._live(), self._pos, self._v, self._sp))

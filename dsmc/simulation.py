@@ -46,7 +46,7 @@ from dsmc.kernels.collide import N_COLL_STATS, collide_ntc
 from dsmc.kernels.move import N_WALL_ACC, move_1d, n_blocks
 from dsmc.kernels.rng import fill_cells_1d, new_streams
 from dsmc.kernels.sample import N_MOMENTS, sample_cells
-from dsmc.kernels.sort import cell_starts, counting_sort, keys_1d
+from dsmc.kernels.sort import counting_sort, keys_1d
 from dsmc.models import COLLISION_MODELS, wall_row
 from dsmc.particles import Particles
 
@@ -81,9 +81,6 @@ class Simulation:
                                         w.normal_accommodation, w.tangential_accommodation)
                                for w in case.walls])
         self.dt = case.numerics.time_step or self.auto_time_step()
-        self.n_sub = 1
-        if case.numerics.partners == "subcell":
-            self.n_sub = case.numerics.subcells or max(1, int(case.numerics.particles_per_cell // 8))
 
         root = np.random.SeedSequence(self.seed)
         init_seq, move_seq, coll_seq = root.spawn(3)
@@ -95,7 +92,6 @@ class Simulation:
         self.sgmax = np.empty(nc)
         self.remainder = np.zeros(nc)
         self.cell_start = np.zeros(nc + 1, dtype=np.int64)
-        self._key_start = np.zeros(nc * self.n_sub + 1, dtype=np.int64)
         self.particles = Particles(int(1.2 * n_target) + 16, dim=1)
         self._key = np.empty(self.particles.capacity, dtype=np.int32)
         self._perm = np.empty(self.particles.capacity, dtype=np.int64)
@@ -184,7 +180,6 @@ class Simulation:
         fill_cells_1d(self.init_state, 0, start, self.grid.dx, sigma, np.ascontiguousarray(u),
                       p.pos, p.v)
         p.sp[:n] = 0
-        p.set_identities()
         # initial (sigma g)_max: at a relative speed of 3 most probable relative speeds
         g_ref = 3.0 * math.sqrt(4.0 * kinetic.K_B * max(T.max(), 1.0) / self.mass[0])
         self.sgmax[:] = self.pair_c[0, 0] * g_ref ** (2.0 * self.pair_exp[0, 0])
@@ -233,18 +228,15 @@ class Simulation:
         p.pos[: p.n] = pos
         p.v[: p.n] = vel
         p.sp[: p.n] = 0
-        p.set_identities()
         self._sort()
 
     # -------------------------------------------------------------------- loop
 
     def _sort(self):
         p = self.particles
-        nk = self.grid.cells * self.n_sub
-        keys_1d(p.pos, p.n, self.grid.length, self.grid.cells, self.n_sub, self._key)
-        counting_sort(self._key, p.n, nk, self._key_start, self._perm)
+        keys_1d(p.pos, p.n, self.grid.length, self.grid.cells, self._key)
+        counting_sort(self._key, p.n, self.grid.cells, self.cell_start, self._perm)
         p.reorder(self._perm)
-        cell_starts(self._key_start, self.grid.cells, self.n_sub, self.cell_start)
 
     def step(self, sample: bool = False):
         """One time step; with ``sample`` the wall fluxes and (on schedule) cell moments count."""
@@ -258,7 +250,7 @@ class Simulation:
             take = self._since_sample >= self._interval
         if take and self._batch.samples % 2 == 0:
             sample_cells(p.v, p.sp, self.cell_start, self._batch.moments)  # before collisions
-        collide_ntc(p.pos, p.v, p.sp, p.pid, p.last, self.cell_start, self._key_start, self.n_sub, self.volume, self.weight, self.dt,
+        collide_ntc(p.pos, p.v, p.sp, self.cell_start, self.volume, self.weight, self.dt,
                     self.sgmax, self.remainder, self.pair_c, self.pair_exp, self.pair_alpha,
                     self.mass, self.coll_state, 0, self._coll)
         self.step_count += 1
@@ -388,7 +380,7 @@ ADEQUACY_LIMITS = (
     ("particles_per_cell", "min", 20.0, "use more particles per cell (common practice: 20 or more)"),
     ("particles_per_cell_min", "min", 5.0, "some cells hold very few particles"),
     ("mean_collision_separation_over_mean_free_path", "max", 0.25,
-     "collision partners are far apart: use more particles or subcells"),
+     "collision partners are far apart: use smaller cells"),
 )
 
 

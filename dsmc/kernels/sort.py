@@ -1,10 +1,8 @@
-"""Counting sort of particles by (sub)cell key and physical reordering.
+"""Counting sort of particles by cell and physical reordering.
 
-Particles are stored in key order so that collisions and sampling stream
-through contiguous memory.  Keys are ``cell * n_sub + subcell``, so cell ``c``
-owns the contiguous range ``start[c*n_sub] .. start[(c+1)*n_sub]``, and within a
-cell neighbours in memory are neighbours in space (used for nearest-neighbour
-collision partners).
+Particles are stored in cell order so that collisions and sampling stream
+through contiguous memory: cell ``c`` owns positions
+``cell_start[c] .. cell_start[c+1]``.
 """
 
 from __future__ import annotations
@@ -13,14 +11,13 @@ import numba as nb
 
 
 @nb.njit(parallel=True, cache=True)
-def keys_1d(pos, n, length, n_cells, n_sub, key):
-    """Subcell key of each particle of a uniform 1-D grid on [0, length]."""
-    n_keys = n_cells * n_sub
-    scale = n_keys / length
+def keys_1d(pos, n, length, n_cells, key):
+    """Cell index of each particle of a uniform 1-D grid on [0, length]."""
+    scale = n_cells / length
     for i in nb.prange(n):
         k = int(pos[i, 0] * scale)
-        if k >= n_keys:
-            k = n_keys - 1
+        if k >= n_cells:
+            k = n_cells - 1
         elif k < 0:
             k = 0
         key[i] = k
@@ -52,9 +49,3 @@ def gather(src, dst, perm, n):
     for i in nb.prange(n):
         dst[i] = src[perm[i]]
 
-
-@nb.njit(cache=True)
-def cell_starts(key_start, n_cells, n_sub, out):
-    """First sorted position of each cell from the subcell starts."""
-    for c in range(n_cells + 1):
-        out[c] = key_start[c * n_sub]
