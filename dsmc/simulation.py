@@ -312,11 +312,15 @@ class Simulation:
             raise RuntimeError("no samples taken: run or advance(..., sample=True) first")
         return batches
 
+    def batch_fields(self) -> list[dict[str, np.ndarray]]:
+        """Cell fields of each closed batch alone (for errors of derived quantities)."""
+        return [stats.cell_fields(b.moments, b.samples, self.weight, self.volume, self.mass)
+                for b in self._closed_batches()]
+
     def fields(self) -> dict[str, tuple[np.ndarray, np.ndarray]]:
         """Cell fields as ``{name: (mean, standard error)}`` over the closed batches."""
         batches = self._closed_batches()
-        per = [stats.cell_fields(b.moments, b.samples, self.weight, self.volume, self.mass)
-               for b in batches]
+        per = self.batch_fields()
         total = stats.cell_fields(sum(b.moments for b in batches), sum(b.samples for b in batches),
                                   self.weight, self.volume, self.mass)
         return {k: (total[k], stats.batch_error(np.stack([f[k] for f in per])))

@@ -1,0 +1,27 @@
+"""Shared helpers for the tests."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+CASES = ROOT / "cases"
+
+
+def bulk_mean(sim, name, select, cells=slice(None)):
+    """Domain average of ``select(field)`` over ``cells`` and its batch-means standard error."""
+    per = np.array([np.mean(select(f[name])[cells]) for f in sim.batch_fields()])
+    total = np.mean(select(sim.fields()[name][0])[cells])
+    return float(total), float(per.std(ddof=1) / np.sqrt(per.size))
+
+
+def relative(a, b):
+    return (a - b) / abs(b)
+
+
+@pytest.fixture
+def cases_dir():
+    return CASES
