@@ -230,6 +230,9 @@ def _read_gas(t: _Table) -> GasSpec:
         species = get_species(name)
     except UnknownNameError as err:
         t.fail(str(err), "species")
+    if species.rot_dof or species.vib_dof_char_T:
+        t.fail(f"'{species.name}' has internal degrees of freedom, whose energy exchange is not "
+               "implemented yet; use a monatomic gas (He, Ne, Ar, Kr, Xe)", "species")
     model = t.choice("collision_model", COLLISION_MODELS, "vhs")
     temperature = t.number("temperature", required=True, positive=True, maximum=1e5, unit="K")
     if t.has("pressure") == t.has("number_density"):
