@@ -75,7 +75,7 @@ class Simulation:
         self.mass = np.array([s.mass for s in self.species])
         self.volume = self.grid.volumes
         n_target = case.numerics.particles_per_cell * self.grid.cells
-        self.weight = gas.number_density * self.grid.length * UNIT_AREA / n_target
+        self.weight = 0.0  # real molecules per particle, set by _initialise
         self.pair_c, self.pair_exp, self.pair_alpha = self._pair_tables()
         self.walls = np.array([wall_row(w.model, w.temperature, w.velocity, w.accommodation,
                                         w.normal_accommodation, w.tangential_accommodation)
@@ -173,6 +173,8 @@ class Simulation:
         start = np.zeros(counts.size + 1, dtype=np.int64)
         np.cumsum(counts, out=start[1:])
         n = int(start[-1])
+        # the weight makes the particles present carry exactly the case's gas amount
+        self.weight = self.case.gas.number_density * self.grid.length * UNIT_AREA / max(n, 1)
         self._reserve(n)
         p = self.particles
         p.n = n
