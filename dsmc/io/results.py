@@ -47,7 +47,7 @@ def _write_tree(group: h5py.Group, tree: dict):
         elif isinstance(val, dict):
             _write_tree(group.create_group(key), val)
         else:
-            raise TypeError(f"{group.name}/{key}: expected Data or dict, got {type(val).__name__}")
+            raise TypeError(f"{group.name.rstrip('/')}/{key}: expected Data or dict, got {type(val).__name__}")
 
 
 def write_results(path: str | Path, tree: dict, overwrite: bool = False) -> Path:
@@ -61,6 +61,7 @@ def write_results(path: str | Path, tree: dict, overwrite: bool = False) -> Path
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=directory)
     os.close(fd)
     try:
+        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes it 0600; give it an ordinary file's mode
         with h5py.File(tmp, "w") as f:
             f.attrs["schema"] = SCHEMA_NAME
             f.attrs["schema_version"] = SCHEMA_VERSION
@@ -70,6 +71,12 @@ def write_results(path: str | Path, tree: dict, overwrite: bool = False) -> Path
         Path(tmp).unlink(missing_ok=True)
         raise
     return path
+
+
+def _umask() -> int:
+    mask = os.umask(0o077)  # only way to read it; the restrictive value is harmless meanwhile
+    os.umask(mask)
+    return mask
 
 
 def _read_tree(group: h5py.Group) -> dict:
