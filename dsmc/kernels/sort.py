@@ -8,6 +8,7 @@ through contiguous memory: cell ``c`` owns positions
 from __future__ import annotations
 
 import numba as nb
+import numpy as np
 
 
 @nb.njit(parallel=True, cache=True)
@@ -23,24 +24,47 @@ def keys_1d(pos, n, length, n_cells, key):
         key[i] = k
 
 
-@nb.njit(cache=True)
+SORT_CHUNKS = 16  # most histogram chunks of the parallel counting sort
+MIN_CHUNK = 32768  # fewest particles per chunk
+
+
+@nb.njit(parallel=True, cache=True)
 def counting_sort(key, n, n_keys, start, perm):
     """Stable counting sort: ``perm`` lists particle indices in key order.
 
     ``start`` (length ``n_keys + 1``) receives the first sorted position of
-    each key.
+    each key.  The particles are cut into at most ``SORT_CHUNKS`` chunks (their
+    number depends only on ``n``); each chunk is histogrammed and scattered in
+    parallel, and the chunk offsets per key keep the order of the serial
+    stable sort, so the permutation does not depend on the thread count.  The
+    histograms take ``4 * n_chunks * n_keys`` bytes.
     """
-    for k in range(n_keys + 1):
-        start[k] = 0
-    for i in range(n):
-        start[key[i] + 1] += 1
+    n_chunks = min(SORT_CHUNKS, max(1, n // MIN_CHUNK))
+    size = (n + n_chunks - 1) // n_chunks
+    hist = np.zeros((n_chunks, n_keys), dtype=np.int32)
+    for ch in nb.prange(n_chunks):
+        for i in range(ch * size, min(n, (ch + 1) * size)):
+            hist[ch, key[i]] += 1
+    # totals per key, then the running start
+    start[0] = 0
     for k in range(n_keys):
-        start[k + 1] += start[k]
-    fill = start[:n_keys].copy()
-    for i in range(n):
-        k = key[i]
-        perm[fill[k]] = i
-        fill[k] += 1
+        total = 0
+        for ch in range(n_chunks):
+            total += hist[ch, k]
+        start[k + 1] = start[k] + total
+    # each chunk's first position within each key
+    for k in nb.prange(n_keys):
+        pos = start[k]
+        for ch in range(n_chunks):
+            c = hist[ch, k]
+            hist[ch, k] = pos - start[k]
+            pos += c
+    for ch in nb.prange(n_chunks):
+        fill = hist[ch]
+        for i in range(ch * size, min(n, (ch + 1) * size)):
+            k = key[i]
+            perm[start[k] + fill[k]] = i
+            fill[k] += 1
 
 
 @nb.njit(parallel=True, cache=True)
