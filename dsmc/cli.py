@@ -114,6 +114,19 @@ def cmd_gas(args) -> int:
     return 0
 
 
+def cmd_compare(args) -> int:
+    from dsmc.analysis.report import compare, write_plots
+
+    if args.exclude is not None and not args.exclude >= 0.0:
+        raise UserError(f"--exclude must be a non-negative number of free paths, got {args.exclude}")
+    c = compare(args.result, slip_model=args.model, exclude_ell=args.exclude)
+    print(c.format())
+    if args.plots:
+        for path in write_plots(c, args.plots):
+            print(f"wrote {path}")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="dsmc", description="Direct-simulation Monte Carlo for "
                                 "rarefied planar gas flows.")
@@ -148,6 +161,22 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--length", type=float, help="characteristic length, m (gives Kn)")
     g.add_argument("--model", default="vhs", help="collision model: hs, vhs, vss (default vhs)")
     g.set_defaults(func=cmd_gas)
+
+    cp = sub.add_parser("compare", help="compare a result file with the no-slip, slip/jump and "
+                        "free-molecular limits",
+                        description="Print DSMC shear stress and heat flux beside the continuum "
+                                    "no-slip, slip/jump and free-molecular limits, and the slip "
+                                    "velocity and temperature jump extracted at each wall; "
+                                    "optionally plot the profiles.")
+    cp.add_argument("result", help="result file (HDF5) of dsmc run or dsmc sweep")
+    cp.add_argument("--plots", metavar="DIR", help="write velocity and temperature plots "
+                    "(PNG and PDF) into DIR")
+    cp.add_argument("--model", default="hard_sphere", choices=("hard_sphere", "s_model", "maxwell"),
+                    help="slip/jump coefficients (default hard_sphere)")
+    cp.add_argument("--exclude", type=float, default=2.0, metavar="ELL",
+                    help="Knudsen-layer width left out of the bulk fit, in equivalent free paths "
+                         "from each wall (default 2)")
+    cp.set_defaults(func=cmd_compare)
     return p
 
 
