@@ -65,13 +65,20 @@ class NumericsSpec:
     transit_fraction: float = 0.5
 
 
+TARGET_QUANTITIES = ("bulk_shear_stress", "bulk_heat_flux", "bulk_temperature")
+
+
 @dataclass(frozen=True)
 class RunSpec:
     seed: int = 1
-    transient_steps: int = 1000
-    sample_steps: int = 5000
+    transient_steps: int = 1000  # fixed transient, or the most it may take with steady_state = "auto"
+    sample_steps: int = 5000  # sampling budget
     sample_interval: int = 1
-    batches: int = 20
+    batches: int = 20  # batches in the full budget (batch length = sample_steps // batches)
+    steady_state: str = "fixed"  # fixed | auto
+    monitor_window: int = 50  # steps per steady-state monitor window
+    target_error: float = 0.0  # relative standard error that stops sampling early; 0 = off
+    target_quantities: tuple[str, ...] = ()  # () = chosen from the walls
 
 
 @dataclass(frozen=True)
@@ -114,6 +121,7 @@ class _Table:
         raise CaseError(f"{self.file}: {where}: {message}")
 
     def has(self, name: str) -> bool:
+        self.used.add(name)  # a known key: finish() may suggest it for a misspelling
         return name in self.data
 
     def _raw(self, name: str, required: bool):
@@ -317,6 +325,18 @@ def _read_numerics(t: _Table | None) -> NumericsSpec:
     return spec
 
 
+def _names(t: _Table, name: str, choices) -> tuple[str, ...]:
+    raw = t._raw(name, False)
+    if raw is None:
+        return ()
+    if not isinstance(raw, list) or not all(isinstance(x, str) for x in raw):
+        t.fail(f"expected a list of names from {_list(choices)}, got {_short(raw)}", name)
+    for x in raw:
+        if x not in choices:
+            t.fail(f"'{x}' is not one of {_list(choices)}{nearest(x, choices)}", name)
+    return tuple(raw)
+
+
 def _read_run(t: _Table | None) -> RunSpec:
     if t is None:
         return RunSpec()
@@ -327,6 +347,10 @@ def _read_run(t: _Table | None) -> RunSpec:
         sample_steps=t.integer("sample_steps", d.sample_steps, minimum=1, maximum=10**12),
         sample_interval=t.integer("sample_interval", d.sample_interval, minimum=1, maximum=10**9),
         batches=t.integer("batches", d.batches, minimum=2, maximum=10_000),
+        steady_state=t.choice("steady_state", ("fixed", "auto"), d.steady_state),
+        monitor_window=t.integer("monitor_window", d.monitor_window, minimum=1, maximum=10**9),
+        target_error=t.number("target_error", d.target_error, minimum=0.0, maximum=1.0),
+        target_quantities=_names(t, "target_quantities", TARGET_QUANTITIES),
     )
     t.finish()
     if spec.sample_steps // spec.sample_interval < spec.batches:

@@ -24,7 +24,8 @@ def _fmt(value) -> str:
     return str(value)
 
 
-def _print_adequacy(figures: dict, warnings: list[str], out=sys.stdout):
+def _print_adequacy(figures: dict, warnings: list[str], out=None):
+    out = sys.stdout if out is None else out  # looked up now: stdout may be redirected
     print("numerical adequacy:", file=out)
     for k, v in figures.items():
         print(f"  {k:48s} {_fmt(float(v))}", file=out)
@@ -32,45 +33,32 @@ def _print_adequacy(figures: dict, warnings: list[str], out=sys.stdout):
         print(f"  warning: {w}", file=out)
 
 
-def _progress(every: float):
-    """A callback printing a log line every ``every`` seconds (to stderr)."""
-    state = {"t": time.perf_counter(), "t0": time.perf_counter()}
-
-    def cb(sim, _i):
-        now = time.perf_counter()
-        if now - state["t"] >= every:
-            state["t"] = now
-            r = sim.case.run
-            total = r.transient_steps + r.sample_steps
-            print(f"step {sim.step_count}/{total}  particles {sim.n_particles}  "
-                  f"elapsed {now - state['t0']:.0f} s", file=sys.stderr, flush=True)
-
-    return cb
-
-
 def cmd_run(args) -> int:
     from dsmc.case import load_case
-    from dsmc.io.results import write_results
-    from dsmc.simulation import Simulation, adequacy_warnings, result_tree, set_threads
+    from dsmc.runner import run_case
+    from dsmc.simulation import adequacy_warnings
 
     case = load_case(args.case)
     out = Path(args.output) if args.output else Path(Path(args.case).stem + ".h5")
-    if out.exists() and not args.force:
-        raise UserError(f"{out}: exists already (use --force to replace it)")
-    set_threads(args.threads)
-    sim = Simulation(case, seed=args.seed)
-    if not args.quiet:
+
+    def on_start(sim):
+        if args.quiet:
+            return
+        r = case.run
         print(f"case {case.path}: {case.title}")
         print(f"particles {sim.n_particles}, cells {sim.grid.cells}, time step {sim.dt:.4g} s, "
-              f"steps {case.run.transient_steps} + {case.run.sample_steps}")
+              f"steps {r.transient_steps} ({r.steady_state} transient) + {r.sample_steps}")
         figures = sim.adequacy()
         _print_adequacy(figures, adequacy_warnings(figures))
-    sim.run(callback=None if args.quiet else _progress(args.log_every))
-    write_results(out, result_tree(sim), overwrite=args.force)
-    if not args.quiet:
+
+    def on_end(sim):
+        if args.quiet:
+            return
         figures = sim.adequacy(measured=True)
         print(f"done in {sim.wall_time:.1f} s "
-              f"({sim.n_particles * sim.step_count / max(sim.wall_time, 1e-9) / 1e6:.1f} M particle-steps/s)")
+              f"({sim.n_particles * sim.step_count / max(sim.wall_time, 1e-9) / 1e6:.1f} "
+              f"M particle-steps/s); sampling from step {sim.transient_end_step}, "
+              f"stopped by {sim.stop_reason}")
         _print_adequacy(figures, adequacy_warnings(figures))
         for side, w in zip(("xmin", "xmax"), sim.wall_fields()):
             tau, tau_se = w["shear_stress"]
@@ -79,7 +67,12 @@ def cmd_run(args) -> int:
             print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_y {tau[1]:.5g} +- "
                   f"{tau_se[1]:.2g} Pa, heat flux into wall {q:.5g} +- {q_se:.2g} W/m^2")
         print(f"wrote {out}")
-    return 0
+
+    status, _ = run_case(case, out, seed=args.seed, threads=args.threads, force=args.force,
+                         resume=args.resume, checkpoint_every=args.checkpoint_every,
+                         quiet=args.quiet, log_every=args.log_every,
+                         report=lambda m: print(m, file=sys.stderr), on_start=on_start, on_end=on_end)
+    return status
 
 
 def cmd_check(args) -> int:
@@ -127,6 +120,34 @@ def cmd_compare(args) -> int:
     return 0
 
 
+def _float_list(text: str, option: str) -> list[float]:
+    try:
+        values = [float(v) for v in text.split(",") if v.strip()]
+    except ValueError:
+        raise UserError(f"{option}: expected comma-separated numbers, got '{text}'") from None
+    if not values:
+        raise UserError(f"{option}: no values given")
+    return values
+
+
+def cmd_sweep(args) -> int:
+    from dsmc.parallel import format_rows, format_verdict, run_sweep
+
+    pressures = _float_list(args.pressures, "--pressures") if args.pressures else None
+    gaps = _float_list(args.gaps, "--gaps") if args.gaps else None
+    res = run_sweep(args.base, pressures=pressures, gaps=gaps, jobs=args.jobs, out_dir=args.out,
+                    tolerance=args.tolerance, force=args.force, slip_model=args.model,
+                    max_cells=args.max_cells, log=(lambda *a: None) if args.quiet else print)
+    print(format_rows(res["rows"]))
+    for r in res["rows"]:
+        if r.warnings:
+            print(f"warning: {r.path}: {r.warnings}")
+    print(format_verdict(res["verdict"], args.tolerance))
+    print(f"wrote {', '.join(str(p) for p in res['summary'] + tuple(res['plots']))}")
+    print(f"sweep of {len(res['rows'])} points done in {res['elapsed']:.1f} s with {args.jobs} jobs")
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="dsmc", description="Direct-simulation Monte Carlo for "
                                 "rarefied planar gas flows.")
@@ -142,7 +163,11 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--force", action="store_true", help="replace an existing result file")
     r.add_argument("--quiet", action="store_true", help="print nothing but errors")
     r.add_argument("--log-every", type=float, default=10.0, metavar="S",
-                   help="seconds between progress lines (default 10)")
+                   help="seconds between progress lines when not on a terminal (default 10)")
+    r.add_argument("--resume", action="store_true",
+                   help="continue from OUTPUT.checkpoint (written periodically and on SIGTERM/SIGINT)")
+    r.add_argument("--checkpoint-every", type=float, default=900.0, metavar="S",
+                   help="seconds of wall time between checkpoints (default 900; 0 = only on signals)")
     r.set_defaults(func=cmd_run)
 
     c = sub.add_parser("check", help="validate a case and report its numerical adequacy",
@@ -177,6 +202,27 @@ def build_parser() -> argparse.ArgumentParser:
                     help="Knudsen-layer width left out of the bulk fit, in equivalent free paths "
                          "from each wall (default 2)")
     cp.set_defaults(func=cmd_compare)
+
+    sw = sub.add_parser("sweep", help="run a base case over pressures or gaps and judge the "
+                        "slip model", description="Build one case per pressure or gap from a base "
+                        "case (cells kept below lambda/3, particles per cell kept), run them in "
+                        "parallel, write one HDF5 per point, a summary (CSV, HDF5), a plot of "
+                        "tau/tau_FM and q/q_FM against Kn, and print where the slip model departs "
+                        "from DSMC by more than the tolerance.")
+    sw.add_argument("base", help="base case file (TOML)")
+    grp = sw.add_mutually_exclusive_group(required=True)
+    grp.add_argument("--pressures", metavar="P1,P2,...", help="gas pressures, Pa")
+    grp.add_argument("--gaps", metavar="L1,L2,...", help="gap widths, m")
+    sw.add_argument("--jobs", type=int, default=2, help="parallel processes (default 2)")
+    sw.add_argument("--out", default=".", metavar="DIR", help="output directory (default .)")
+    sw.add_argument("--tolerance", type=float, default=0.05,
+                    help="relative departure of the slip model that fails it (default 0.05)")
+    sw.add_argument("--model", default="hard_sphere", choices=("hard_sphere", "s_model", "maxwell"),
+                    help="slip/jump coefficients (default hard_sphere)")
+    sw.add_argument("--max-cells", type=int, default=2000, help="upper bound on cells (default 2000)")
+    sw.add_argument("--force", action="store_true", help="replace existing output files")
+    sw.add_argument("--quiet", action="store_true", help="no progress lines")
+    sw.set_defaults(func=cmd_sweep)
     return p
 
 

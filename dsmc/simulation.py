@@ -49,6 +49,7 @@ from dsmc.kernels.sample import N_MOMENTS, sample_cells
 from dsmc.kernels.sort import counting_sort, keys_1d
 from dsmc.models import COLLISION_MODELS, wall_row
 from dsmc.particles import Particles
+from dsmc.steady import steady, target_reached
 
 BLOCK_SIZE = 4096  # particles per random stream in the move kernel
 WALL_NORMALS = (np.array([1.0, 0.0]), np.array([-1.0, 0.0]))  # into the gas at xmin, xmax
@@ -66,9 +67,12 @@ class _Batch:
 class Simulation:
     """A 1-D planar DSMC run of one case."""
 
-    def __init__(self, case: Case, seed: int | None = None):
+    def __init__(self, case: Case, seed: int | None = None, replica: int | None = None):
+        """``replica`` (ensemble member number) gives independent random streams
+        spawned from the same seed."""
         self.case = case
         self.seed = case.run.seed if seed is None else int(seed)
+        self.replica = replica
         gas = case.gas
         self.grid = Grid1D(case.domain.length, case.domain.cells)
         self.species = [gas.species]
@@ -82,7 +86,7 @@ class Simulation:
                                for w in case.walls])
         self.dt = case.numerics.time_step or self.auto_time_step()
 
-        root = np.random.SeedSequence(self.seed)
+        root = np.random.SeedSequence(self.seed, spawn_key=() if replica is None else (replica,))
         init_seq, move_seq, coll_seq = root.spawn(3)
         self.init_state = new_streams(init_seq, 1)
         self.move_state = new_streams(move_seq, n_blocks(int(1.2 * n_target) + 1, BLOCK_SIZE))
@@ -99,6 +103,16 @@ class Simulation:
         self._coll = np.zeros((nc, N_COLL_STATS))
         self.step_count = 0
         self.wall_time = 0.0
+        # schedule state (see _schedule_step)
+        self.phase = "transient"
+        self.phase_steps = 0
+        self.transient_end_step = 0
+        self.steady_detected = False
+        self.stop_reason = ""
+        self.windows: list[np.ndarray] = []
+        self._win_sum = np.zeros(9)
+        self._win_steps = 0
+        self._target_history: list[np.ndarray] = []
         self._initialise()
         self.reset_samples()
 
@@ -196,7 +210,8 @@ class Simulation:
         nb_needed = n_blocks(n, BLOCK_SIZE)
         if nb_needed > self.move_state.shape[0]:
             extra = nb_needed - self.move_state.shape[0]
-            seq = np.random.SeedSequence(self.seed, spawn_key=(3, self.move_state.shape[0]))
+            key = () if self.replica is None else (self.replica,)
+            seq = np.random.SeedSequence(self.seed, spawn_key=key + (3, self.move_state.shape[0]))
             self.move_state = np.concatenate([self.move_state, new_streams(seq, extra)])
             self._wall_acc = np.zeros((nb_needed, 2, N_WALL_ACC))
 
@@ -267,12 +282,12 @@ class Simulation:
                 self._since_sample = 0
 
     def advance(self, steps: int, sample: bool = False, callback=None):
-        """Run ``steps`` steps; ``callback(sim, i)`` is called after each one."""
+        """Run ``steps`` steps outside the case's schedule; ``callback(sim)`` after each."""
         t0 = time.perf_counter()
         for i in range(int(steps)):
             self.step(sample)
             if callback is not None:
-                callback(self, i)
+                callback(self)
         self.wall_time += time.perf_counter() - t0
 
     def _new_batch(self) -> _Batch:
@@ -295,16 +310,161 @@ class Simulation:
         self.batches.append(self._batch)
         self._batch = self._new_batch()
 
-    def run(self, callback=None):
-        """The case's schedule: transient, then sampling in batches."""
+    # ---------------------------------------------------------------- schedule
+
+    def _monitor_values(self) -> np.ndarray:
+        """Per-step quantities watched for the steady state: wall hits, momentum
+        (x, y) and energy per wall, and the gas kinetic energy."""
+        w = self._wall_acc[: n_blocks(self.particles.n, BLOCK_SIZE)].sum(axis=0)
+        ke = float(np.einsum("ij,ij->", self.velocities, self.velocities))
+        return np.concatenate([w[:, [0, 1, 2, 4]].ravel(), [ke]])
+
+    def _monitor(self):
+        """Add this step to the current monitor window; close it when full."""
+        self._win_sum += self._monitor_values()
+        self._win_steps += 1
+        if self._win_steps == self.case.run.monitor_window:
+            self.windows.append(self._win_sum / self._win_steps)
+            self._win_sum = np.zeros_like(self._win_sum)
+            self._win_steps = 0
+            return True
+        return False
+
+    def target_values(self, batch: _Batch) -> np.ndarray:
+        """The quantities whose relative error may stop sampling, for one batch."""
+        out = []
+        f = None
+        for name in self.target_quantities:
+            if name in ("bulk_shear_stress", "bulk_heat_flux", "bulk_temperature"):
+                if f is None:
+                    f = stats.cell_fields(batch.moments, batch.samples, self.weight, self.volume,
+                                          self.mass)
+                if name == "bulk_shear_stress":
+                    out.append(np.nanmean(f["pressure_tensor"][:, 0, 1]))
+                elif name == "bulk_heat_flux":
+                    out.append(np.nanmean(f["heat_flux"][:, 0]))
+                else:
+                    out.append(np.nanmean(f["temperature"]))
+        return np.array(out)
+
+    @property
+    def target_quantities(self) -> tuple[str, ...]:
         r = self.case.run
-        self.advance(r.transient_steps, sample=False, callback=callback)
+        if r.target_quantities:
+            return r.target_quantities
+        w0, w1 = self.case.walls
+        q = []
+        if w0.velocity != w1.velocity:
+            q.append("bulk_shear_stress")
+        if w0.temperature != w1.temperature:
+            q.append("bulk_heat_flux")
+        return tuple(q) or ("bulk_temperature",)
+
+    def _start_sampling(self):
+        self.phase = "sampling"
+        self.phase_steps = 0
+        self.transient_end_step = self.step_count
         self.reset_samples()
-        per_batch = r.sample_steps // r.batches
-        for b in range(r.batches):
-            steps = per_batch if b < r.batches - 1 else r.sample_steps - per_batch * (r.batches - 1)
-            self.advance(steps, sample=True, callback=callback)
-            self.close_batch()
+
+    def _schedule_step(self):
+        """One step of the case's schedule, and the phase changes it causes."""
+        r = self.case.run
+        if self.phase == "transient":
+            self.step(sample=False)
+            self.phase_steps += 1
+            if r.steady_state == "auto":
+                if self._monitor() and steady(np.array(self.windows)):
+                    self.steady_detected = True
+                    self._start_sampling()
+                    return
+            if self.phase_steps >= r.transient_steps:
+                self._start_sampling()
+        elif self.phase == "sampling":
+            self.step(sample=True)
+            self.phase_steps += 1
+            per_batch = max(1, r.sample_steps // r.batches)
+            if self._batch.steps >= per_batch or self.phase_steps >= r.sample_steps:
+                self.close_batch()
+                self._target_history.append(self.target_values(self.batches[-1]))
+                if r.target_error > 0 and target_reached(np.array(self._target_history),
+                                                         r.target_error):
+                    self.phase = "done"
+                    self.stop_reason = "target_error"
+                elif self.phase_steps >= r.sample_steps:
+                    self.phase = "done"
+                    self.stop_reason = "sample_steps"
+
+    def run(self, callback=None, stop=None) -> bool:
+        """Run (or continue) the case's schedule: transient, then sampling in batches.
+
+        ``callback(sim)`` is called after every step; ``stop()`` too, and when it
+        returns true the run pauses after that step (the state stays consistent,
+        so it can be checkpointed).  Returns True when the schedule is complete.
+        """
+        t0 = time.perf_counter()
+        try:
+            while self.phase != "done":
+                self._schedule_step()
+                if callback is not None:
+                    callback(self)
+                if stop is not None and stop():
+                    break
+        finally:
+            self.wall_time += time.perf_counter() - t0
+        return self.phase == "done"
+
+    # ------------------------------------------------------------ checkpoints
+
+    _STATE_ARRAYS = ("move_state", "coll_state", "init_state", "sgmax", "remainder", "_coll",
+                     "_win_sum")
+    _STATE_SCALARS = ("step_count", "wall_time", "phase_steps", "transient_end_step",
+                      "_since_sample", "_interval", "_win_steps", "weight")
+
+    def state(self) -> dict:
+        """Everything needed to continue this run bit-identically (plain arrays)."""
+        p = self.particles
+        batches = self.batches + [self._batch]
+        out = {
+            "pos": p.pos[: p.n].copy(), "v": p.v[: p.n].copy(), "sp": p.sp[: p.n].copy(),
+            "phase": self.phase, "stop_reason": self.stop_reason,
+            "steady_detected": int(self.steady_detected),
+            "windows": np.array(self.windows, dtype=float).reshape(-1, self._win_sum.size),
+            "targets": np.array(self._target_history, dtype=float).reshape(
+                -1, len(self.target_quantities)),
+            "batch_moments": np.stack([b.moments for b in batches]),
+            "batch_walls": np.stack([b.walls for b in batches]),
+            "batch_collisions": np.stack([b.collisions for b in batches]),
+            "batch_samples": np.array([b.samples for b in batches]),
+            "batch_steps": np.array([b.steps for b in batches]),
+        }
+        for k in self._STATE_ARRAYS:
+            out[k] = getattr(self, k).copy()
+        for k in self._STATE_SCALARS:
+            out[k] = getattr(self, k)
+        return out
+
+    def restore(self, st: dict):
+        """Continue from :meth:`state` output of a run of the same case."""
+        n = len(st["pos"])
+        self._reserve(n)
+        p = self.particles
+        p.n = n
+        p.pos[:n], p.v[:n], p.sp[:n] = st["pos"], st["v"], st["sp"]
+        for k in self._STATE_ARRAYS:
+            setattr(self, k, np.array(st[k], dtype=getattr(self, k).dtype))
+        self._wall_acc = np.zeros((self.move_state.shape[0], 2, N_WALL_ACC))
+        for k in self._STATE_SCALARS:
+            setattr(self, k, type(getattr(self, k))(st[k]))
+        self.phase = str(st["phase"])
+        self.stop_reason = str(st["stop_reason"])
+        self.steady_detected = bool(st["steady_detected"])
+        self.windows = list(np.asarray(st["windows"]))
+        self._target_history = list(np.asarray(st["targets"]))
+        batches = [_Batch(m.copy(), w.copy(), c.copy(), int(ns), int(nst)) for m, w, c, ns, nst in
+                   zip(st["batch_moments"], st["batch_walls"], st["batch_collisions"],
+                       st["batch_samples"], st["batch_steps"])]
+        self.batches, self._batch = batches[:-1], batches[-1]
+        self._sort()
 
     # ----------------------------------------------------------------- results
 

@@ -99,6 +99,7 @@ class ResultData:
     walls: list             #: two dicts: model, alpha, T, u, tau, tau_se, q, q_se (limits' signs)
     warnings: str
     batches: dict | None    #: per-batch profiles (B, N) or None
+    batch_duration: float = math.nan  #: s, sampled time of one batch
 
 
 def _alpha(attrs: dict, side: str, path) -> tuple[float, str]:
@@ -155,6 +156,11 @@ def load(path) -> ResultData:
         if "batches" in tree:
             batches = {k: np.asarray(v.value, dtype=float) for k, v in tree["batches"].items()
                        if k != "@attrs"}
+        try:
+            batch_duration = (float(value(tree, "run/time_step")) * float(value(tree, "run/sampled_steps"))
+                              / float(value(tree, "run/batches")))
+        except (KeyError, TypeError, ZeroDivisionError):
+            batch_duration = math.nan
         warnings = str(tree.get("adequacy", {}).get("@attrs", {}).get("warnings", ""))
         if notes:
             warnings = "\n".join([w for w in (warnings,) if w] + notes)
@@ -171,7 +177,7 @@ def load(path) -> ResultData:
             T_se=np.asarray(value(tree, "fields/temperature_stderr"), dtype=float),
             p=np.asarray(value(tree, "fields/pressure"), dtype=float),
             pxy=P[:, 0, 1], pxy_se=P_se[:, 0, 1], qx=q[:, 0], qx_se=q_se[:, 0],
-            walls=walls, warnings=warnings, batches=batches,
+            walls=walls, warnings=warnings, batches=batches, batch_duration=batch_duration,
         )
     except (KeyError, IndexError, TypeError) as err:
         raise UserError(f"{path}: result file lacks {err} needed for the comparison") from None
@@ -553,6 +559,15 @@ def compare(result_path, slip_model: str = "hard_sphere", exclude_ell: float = E
     notes = []
     if abs(w1["T"] - w2["T"]) == 0 and abs(w1["u"] - w2["u"]) == 0:
         notes.append("walls identical: the gap is in equilibrium, every flux limit is zero")
+    # slow modes: the profile's lowest diffusion mode decays in t_d = L^2 rho/(pi^2 mu); batches
+    # shorter than that are correlated and the errors of profile fits come out too small
+    rho = n_avg * m
+    t_d = L * L * rho / (math.pi**2 * float(tr.mu(T_mean)))
+    if np.isfinite(d.batch_duration) and d.batch_duration < 2.0 * t_d:
+        notes.append(f"batches last {d.batch_duration:.3g} s, less than twice the viscous diffusion "
+                     f"time L^2 rho/(pi^2 mu) = {t_d:.3g} s: slow fluctuations of the whole profile "
+                     "are not averaged out, so the slip/jump errors are underestimated (bulk "
+                     "averages of P_xy and q_x are not affected to first order); sample longer")
     fit = None
     if exclude_ell is not None:
         fit = extract_slip_jump(d, tr, float(np.mean(d.p)), tau, tau_se, exclude_ell, ell,

@@ -50,8 +50,12 @@ def _write_tree(group: h5py.Group, tree: dict):
             raise TypeError(f"{group.name.rstrip('/')}/{key}: expected Data or dict, got {type(val).__name__}")
 
 
-def write_results(path: str | Path, tree: dict, overwrite: bool = False) -> Path:
-    """Write ``tree`` to ``path`` atomically; refuse to replace a file unless ``overwrite``."""
+def write_results(path: str | Path, tree: dict, overwrite: bool = False,
+                  schema: tuple[str, int] = (SCHEMA_NAME, SCHEMA_VERSION)) -> Path:
+    """Write ``tree`` to ``path`` atomically; refuse to replace a file unless ``overwrite``.
+
+    ``schema`` (name, version) is stamped on the file; checkpoints use their own.
+    """
     path = Path(path)
     if path.exists() and not overwrite:
         raise UserError(f"{path}: exists already (use --force to replace it)")
@@ -63,8 +67,8 @@ def write_results(path: str | Path, tree: dict, overwrite: bool = False) -> Path
     try:
         os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes it 0600; give it an ordinary file's mode
         with h5py.File(tmp, "w") as f:
-            f.attrs["schema"] = SCHEMA_NAME
-            f.attrs["schema_version"] = SCHEMA_VERSION
+            f.attrs["schema"] = schema[0]
+            f.attrs["schema_version"] = schema[1]
             _write_tree(f, tree)
         os.replace(tmp, path)
     except BaseException:
@@ -99,20 +103,21 @@ def _plain(v):
     return v
 
 
-def read_results(path: str | Path) -> dict:
+def read_results(path: str | Path, schema: tuple[str, int] = (SCHEMA_NAME, SCHEMA_VERSION),
+                 what: str = "result") -> dict:
     """Read a result file into a tree of :class:`Data` and ``"@attrs"`` dicts."""
     path = Path(path)
     if not path.is_file():
-        raise UserError(f"{path}: no such result file")
+        raise UserError(f"{path}: no such {what} file")
     try:
         with h5py.File(path, "r") as f:
-            schema = _plain(f.attrs.get("schema", ""))
+            name = _plain(f.attrs.get("schema", ""))
             version = _plain(f.attrs.get("schema_version", -1))
-            if schema != SCHEMA_NAME:
-                raise UserError(f"{path}: not a result file of this program (schema '{schema}')")
-            if version != SCHEMA_VERSION:
-                raise UserError(f"{path}: result schema version {version}, this program reads "
-                                f"version {SCHEMA_VERSION}")
+            if name != schema[0]:
+                raise UserError(f"{path}: not a {what} file of this program (schema '{name}')")
+            if version != schema[1]:
+                raise UserError(f"{path}: {what} schema version {version}, this program reads "
+                                f"version {schema[1]}")
             return _read_tree(f)
     except UserError:
         raise
