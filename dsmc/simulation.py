@@ -369,15 +369,13 @@ class Simulation:
     def _schedule_step(self):
         """One step of the case's schedule, and the phase changes it causes."""
         r = self.case.run
+        if self.phase == "transient" and self.phase_steps >= r.transient_steps:
+            self._start_sampling()  # transient budget spent (or none asked for)
         if self.phase == "transient":
             self.step(sample=False)
             self.phase_steps += 1
-            if r.steady_state == "auto":
-                if self._monitor() and steady(np.array(self.windows)):
-                    self.steady_detected = True
-                    self._start_sampling()
-                    return
-            if self.phase_steps >= r.transient_steps:
+            if r.steady_state == "auto" and self._monitor() and steady(np.array(self.windows)):
+                self.steady_detected = True
                 self._start_sampling()
         elif self.phase == "sampling":
             self.step(sample=True)
