@@ -33,11 +33,17 @@ def _print_adequacy(figures: dict, warnings: list[str], out=None):
         print(f"  warning: {w}", file=out)
 
 
+def _check_seed(args):
+    if args.seed is not None and not 0 <= args.seed < 2**63:
+        raise UserError(f"--seed: must be a whole number from 0 to 2**63-1, got {args.seed}")
+
+
 def cmd_run(args) -> int:
     from dsmc.case import load_case
     from dsmc.runner import run_case
     from dsmc.simulation import adequacy_warnings
 
+    _check_seed(args)
     case = load_case(args.case)
     out = Path(args.output) if args.output else Path(Path(args.case).stem + ".h5")
 
@@ -79,6 +85,7 @@ def cmd_check(args) -> int:
     from dsmc.case import load_case
     from dsmc.simulation import Simulation, adequacy_warnings
 
+    _check_seed(args)
     case = load_case(args.case)
     sim = Simulation(case, seed=args.seed)
     ref = sim.reference_state()

@@ -22,10 +22,10 @@ Per point, from the base case:
   per cent or less of the wall difference where diffusion is slow);
 * ``sample_steps`` and ``batches`` are kept.
 
-Each result file gets an extra ``batches`` group with the per-batch
-profiles ``velocity_y``, ``temperature``, ``shear_stress`` (P_xy) and
-``heat_flux_x`` (shape (B, N)), so that :mod:`dsmc.analysis.report` can give
-batch-means errors of bulk averages and jackknife errors of the slip fits.
+Each result file (like every result file) has a ``batches`` group with the
+per-batch profiles ``velocity_y``, ``temperature``, ``shear_stress`` (P_xy)
+and ``heat_flux_x`` (shape (B, N)), so that :mod:`dsmc.analysis.report` can
+give batch-means errors of bulk averages and jackknife errors of the slip fits.
 
 Quantities of the sweep (signs of :mod:`dsmc.analysis.limits`): ``tau``,
 the cell average of P_xy, and ``q``, the cell average of the gas heat flux
@@ -169,21 +169,6 @@ def _init_worker():
     os.environ["NUMBA_NUM_THREADS"] = "1"
 
 
-def batch_tree(sim) -> dict:
-    """Per-batch profiles (B, N) for the ``batches`` group of a result file."""
-    from dsmc.io.results import Data
-
-    per = sim.batch_fields()
-    return {
-        "@attrs": {"description": "per-batch cell fields (batch b alone), for batch-means "
-                                  "errors of averages and fits"},
-        "velocity_y": Data(np.stack([f["velocity"][:, 1] for f in per]), "m/s"),
-        "temperature": Data(np.stack([f["temperature"] for f in per]), "K"),
-        "shear_stress": Data(np.stack([f["pressure_tensor"][:, 0, 1] for f in per]), "Pa"),
-        "heat_flux_x": Data(np.stack([f["heat_flux"][:, 0] for f in per]), "W/m^2"),
-    }
-
-
 def run_point(text: str, path: str, out: str, seed: int | None = None, force: bool = False) -> dict:
     """Run one case text, write its result file (with batch profiles); return timing facts."""
     from dsmc.case import parse_case
@@ -195,9 +180,7 @@ def run_point(text: str, path: str, out: str, seed: int | None = None, force: bo
     sim = Simulation(case, seed=seed)
     t0 = time.perf_counter()
     sim.run()
-    tree = result_tree(sim)
-    tree["batches"] = batch_tree(sim)
-    write_results(out, tree, overwrite=force)
+    write_results(out, result_tree(sim), overwrite=force)
     return {"path": out, "wall_time": time.perf_counter() - t0, "particles": sim.n_particles,
             "steps": sim.step_count}
 

@@ -49,7 +49,7 @@ from dsmc.kernels.sample import N_MOMENTS, sample_cells
 from dsmc.kernels.sort import counting_sort, keys_1d
 from dsmc.models import COLLISION_MODELS, wall_row
 from dsmc.particles import Particles
-from dsmc.steady import steady, target_reached
+from dsmc.steady import relative_errors, steady, target_reached
 
 BLOCK_SIZE = 4096  # particles per random stream in the move kernel
 WALL_NORMALS = (np.array([1.0, 0.0]), np.array([-1.0, 0.0]))  # into the gas at xmin, xmax
@@ -381,7 +381,8 @@ class Simulation:
             self.step(sample=True)
             self.phase_steps += 1
             per_batch = max(1, r.sample_steps // r.batches)
-            if self._batch.steps >= per_batch or self.phase_steps >= r.sample_steps:
+            last = len(self.batches) == r.batches - 1  # the last batch takes the leftover steps
+            if (self._batch.steps >= per_batch and not last) or self.phase_steps >= r.sample_steps:
                 self.close_batch()
                 self._target_history.append(self.target_values(self.batches[-1]))
                 if r.target_error > 0 and target_reached(np.array(self._target_history),
@@ -561,6 +562,21 @@ def adequacy_warnings(figures: dict[str, float]) -> list[str]:
     return out
 
 
+def batch_tree(sim: Simulation) -> dict:
+    """Per-batch profiles (B, N), for batch-means errors of averages and fits."""
+    from dsmc.io.results import Data
+
+    per = sim.batch_fields()
+    return {
+        "@attrs": {"description": "per-batch cell fields (batch b alone), for batch-means "
+                                  "errors of averages and fits"},
+        "velocity_y": Data(np.stack([f["velocity"][:, 1] for f in per]), "m/s"),
+        "temperature": Data(np.stack([f["temperature"] for f in per]), "K"),
+        "shear_stress": Data(np.stack([f["pressure_tensor"][:, 0, 1] for f in per]), "Pa"),
+        "heat_flux_x": Data(np.stack([f["heat_flux"][:, 0] for f in per]), "W/m^2"),
+    }
+
+
 def result_tree(sim: Simulation) -> dict:
     """Everything a result file holds, as a tree for :func:`dsmc.io.results.write_results`."""
     from dsmc import __version__
@@ -591,7 +607,14 @@ def result_tree(sim: Simulation) -> dict:
             "mass": Data(sim.mass, "kg"),
         },
         "run": {
-            "@attrs": {"seed": sim.seed, "threads": numba.get_num_threads()},
+            "@attrs": {"seed": sim.seed, "threads": numba.get_num_threads(),
+                       "steady_state": case.run.steady_state,
+                       "steady_detected": int(sim.steady_detected),
+                       "stop_reason": sim.stop_reason,
+                       "target_quantities": ",".join(sim.target_quantities)},
+            "transient_end_step": Data(sim.transient_end_step, "1"),
+            "target_relative_error": Data(relative_errors(np.array(
+                [sim.target_values(b) for b in batches])), "1"),
             "time_step": Data(sim.dt, "s"),
             "steps": Data(sim.step_count, "1"),
             "sampled_steps": Data(sum(b.steps for b in batches), "1"),
@@ -615,6 +638,7 @@ def result_tree(sim: Simulation) -> dict:
             "cell_volume": Data(sim.volume, "m^3"),
         },
         "fields": pair(stats.FIELD_UNITS, fields),
+        "batches": batch_tree(sim),
         "walls": {},
     }
     for side, w, spec, normal in zip(("xmin", "xmax"), walls, case.walls, WALL_NORMALS):

@@ -182,9 +182,6 @@ def test_unknown_command_is_a_usage_error(capsys):
     assert "usage: dsmc" in capsys.readouterr().err
 
 
-@pytest.mark.xfail(strict=True, raises=ValueError,
-                   reason="known bug: a negative --seed reaches numpy's SeedSequence and escapes "
-                          "as a ValueError traceback instead of a one-line user error")
 def test_negative_seed_is_a_user_error(tmp_path, capsys):
     case = write(tmp_path / "tiny.toml", TINY)
     assert main(["check", str(case), "--seed", "-1"]) == 2
@@ -362,10 +359,6 @@ def test_run_default_output_name(tmp_path, monkeypatch, capsys):
     assert sorted(os.listdir(tmp_path)) == ["small.h5", "small.toml"]
 
 
-@pytest.mark.xfail(strict=True, reason="known bug in the sampling schedule: the steps left over by "
-                   "sample_steps // batches form an extra short batch (and with sample_interval "
-                   "> 1 it may hold no sample, whose steps are then dropped from sampled_steps)")
-@pytest.mark.filterwarnings("ignore::RuntimeWarning")  # means of the empty extra batch
 @pytest.mark.parametrize("steps, interval", [(45, 1), (25, 10)])
 def test_run_batches_as_the_case_says(tmp_path, steps, interval):
     case = write(tmp_path / "rem.toml", TINY.replace(
