@@ -82,11 +82,13 @@ def cmd_run(args) -> int:
 
 
 def cmd_check(args) -> int:
+    from dsmc import resources
     from dsmc.case import load_case
     from dsmc.simulation import Simulation, adequacy_warnings
 
     _check_seed(args)
     case = load_case(args.case)
+    est = resources.guard(case)  # refuses a case too big for memory before allocating it
     sim = Simulation(case, seed=args.seed)
     ref = sim.reference_state()
     print(f"case {case.path}: {case.title}: valid")
@@ -99,6 +101,9 @@ def cmd_check(args) -> int:
     figures = sim.adequacy()
     warnings = adequacy_warnings(figures)
     _print_adequacy(figures, warnings)
+    print(resources.describe(est))
+    if resources.long_run_warning(est):
+        print(f"dsmc: {case.path}: {resources.long_run_warning(est)}", file=sys.stderr)
     return 0
 
 

@@ -24,6 +24,7 @@ from pathlib import Path
 
 import numpy as np
 
+from dsmc import resources
 from dsmc.errors import UserError
 from dsmc.io.checkpoint import read_checkpoint, write_checkpoint
 from dsmc.io.results import write_results
@@ -153,6 +154,9 @@ def run_case(case, output: Path, *, seed=None, threads=None, force=False, resume
                         "supported in MPI ensembles yet (every rank must keep the same schedule)")
     if output.exists() and not force and not resume:
         raise UserError(f"{output}: exists already (use --force to replace it)")
+    warning = resources.long_run_warning(resources.guard(case, threads))  # before any allocation
+    if warning and lead and not quiet:
+        print(f"dsmc: {case.path}: {warning}", file=sys.stderr)
     set_threads(threads)
     sim = Simulation(case, seed=seed, replica=rank)
     ckpt = checkpoint_path(output, rank)

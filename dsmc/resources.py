@@ -1,0 +1,200 @@
+"""Resource guards: memory and run-time estimates from a case, before anything is allocated.
+
+A case whose arrays cannot fit in memory is refused with a one-line
+:class:`~dsmc.errors.UserError` naming the case file and the key to change,
+instead of failing later with an out-of-memory kill.  A run expected to take
+very long gets a warning line.  Nothing here imports numba or the engine: the
+estimate is arithmetic on the case values.
+
+Memory model (bytes; ``P`` = particles at the start, ``N`` = cells, ``B`` =
+batches, ``S`` = species; the byte counts are those of the arrays
+:class:`~dsmc.simulation.Simulation` allocates, checked against the live
+objects by ``tests/test_resources.py``)::
+
+    capacity = 1.2 P + 16                   particle arrays are allocated with 20 % headroom
+    memory   = BASE
+             + capacity * BYTES_PER_PARTICLE    positions, velocities, species and their
+                                                reorder copies (Particles.nbytes = 66 per slot),
+                                                sort keys (4) and permutation (8); plus the
+                                                move streams and wall accumulators per block
+             + P * COPY_BYTES_PER_PARTICLE      copy of the live particles taken by a checkpoint
+                                                (or read back on --resume)
+             + N * BYTES_PER_CELL               per-cell state, collision streams, the current
+                                                batch, sort histograms, initial profiles
+             + B * N * BYTES_PER_BATCH_CELL     closed-batch accumulators, plus the per-batch
+                                                fields formed when the result file is written
+
+The estimate is meant to be an upper bound on the peak resident memory of a
+run; ``tests/test_resources.py`` measures the peak of real runs against it.
+
+Run time: particle-steps (``P * (transient_steps + sample_steps)``) at an
+assumed, conservative throughput of :data:`THROUGHPUT_PER_THREAD`
+particle-steps per second per thread.  It is labelled an estimate wherever it
+is shown: real throughput depends on the machine and the collision rate.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from dataclasses import dataclass
+
+from dsmc.errors import UserError
+
+# --- per-array byte counts (float64 = 8, int64 = 8, int32 = 4, uint8 = 1)
+CAPACITY_FACTOR = 1.2  # Simulation allocates int(1.2 * particles) + 16 slots
+CAPACITY_EXTRA = 16
+BLOCK_SIZE = 4096  # particles per move stream (dsmc.simulation.BLOCK_SIZE)
+PARTICLE_ARRAYS = 2 * (8 * 1 + 8 * 3 + 1)  # pos (n, 1), v (n, 3), sp (n,), and scratch copies: 66
+SORT_ARRAYS = 4 + 8  # int32 key + int64 permutation per slot
+BLOCK_BYTES = 4 * 8 + 2 * 5 * 8  # per block: xoshiro state (4 uint64), wall accumulators (2 x 5)
+BYTES_PER_PARTICLE = PARTICLE_ARRAYS + SORT_ARRAYS + BLOCK_BYTES / BLOCK_SIZE
+COPY_BYTES_PER_PARTICLE = 8 * 1 + 8 * 3 + 1  # state(): copies of pos, v, sp
+MOMENTS = 13  # sampled moments per cell and species (dsmc.kernels.sample.N_MOMENTS)
+COLL_STATS = 2  # per-cell collision statistics (dsmc.kernels.collide.N_COLL_STATS)
+SORT_CHUNKS = 16  # histogram chunks of the parallel counting sort (int32 each)
+
+
+def bytes_per_cell(species: int = 1) -> int:
+    persistent = (8 + 8 + 8 + 8  # sgmax, remainder, cell_start, volume
+                  + 4 * 8  # collision stream state
+                  + COLL_STATS * 8)  # collision counters
+    batch = MOMENTS * 8 * species + COLL_STATS * 8  # the open batch
+    sort = 4 * SORT_CHUNKS  # histograms, allocated at every sort
+    initial = 8 * (1 + 3 + 1 + 1 + 1 + 1 + 1)  # T, u, rel, expected, counts, start, uniforms
+    return persistent + batch + sort + initial
+
+
+def bytes_per_batch_cell(species: int = 1) -> int:
+    accumulators = MOMENTS * 8 * species + COLL_STATS * 8  # one closed batch
+    fields = 23 * 8  # every cell field of one batch (1+1+3+1+3+1+9+3+1 doubles)
+    error_temporaries = 3 * 9 * 8  # stacking one field over batches and its deviations
+    return accumulators + fields + error_temporaries
+
+
+BASE_BYTES = 256 * 2**20  # interpreter, numpy, numba, h5py, compiled kernels (measured: 170 MiB)
+
+THROUGHPUT_PER_THREAD = 5e6  # particle-steps per second and thread: an assumed, conservative value
+LONG_RUN_SECONDS = 24 * 3600.0  # warn above this estimated run time
+
+
+@dataclass(frozen=True)
+class Estimate:
+    particles: int  # simulated particles at the start (mean)
+    cells: int
+    batches: int
+    memory: dict  # bytes by part: base, particles, cells, batches
+    particle_steps: float
+    threads: int
+
+    @property
+    def memory_bytes(self) -> int:
+        return int(sum(self.memory.values()))
+
+    @property
+    def run_seconds(self) -> float:
+        """Estimated wall time at the assumed throughput (an estimate, not a measurement)."""
+        return self.particle_steps / (THROUGHPUT_PER_THREAD * max(1, self.threads))
+
+    @property
+    def key(self) -> str:
+        """The case key that dominates the memory: what to change to need less."""
+        m = self.memory
+        return "numerics.particles_per_cell" if m["particles"] >= m["cells"] + m["batches"] \
+            else "domain.cells"
+
+
+def default_threads() -> int:
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1
+
+
+def estimate(case, threads: int | None = None) -> Estimate:
+    """Memory and run-time estimate of ``case`` (a :class:`dsmc.case.Case`)."""
+    cells = int(case.domain.cells)
+    particles = int(math.ceil(case.numerics.particles_per_cell * cells))
+    capacity = CAPACITY_FACTOR * particles + CAPACITY_EXTRA
+    batches = int(case.run.batches)
+    species = 1
+    memory = {
+        "base": BASE_BYTES,
+        "particles": capacity * BYTES_PER_PARTICLE + particles * COPY_BYTES_PER_PARTICLE,
+        "cells": cells * bytes_per_cell(species),
+        "batches": batches * cells * bytes_per_batch_cell(species),
+    }
+    steps = case.run.transient_steps + case.run.sample_steps
+    return Estimate(particles, cells, batches, memory, float(particles) * steps,
+                    int(threads) if threads else default_threads())
+
+
+def available_memory() -> int | None:
+    """Bytes of memory available to a new allocation: MemAvailable from /proc/meminfo,
+    else free physical pages from ``os.sysconf``; None when neither can be read."""
+    try:
+        with open("/proc/meminfo", encoding="ascii") as f:
+            for line in f:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024  # kB
+    except (OSError, ValueError, IndexError):
+        pass
+    try:
+        return int(os.sysconf("SC_AVPHYS_PAGES")) * int(os.sysconf("SC_PAGE_SIZE"))
+    except (AttributeError, ValueError, OSError):
+        return None
+
+
+def size(n: float) -> str:
+    """Bytes in binary units, e.g. ``1.5 GiB``."""
+    for unit in ("B", "KiB", "MiB", "GiB", "TiB", "PiB"):
+        if abs(n) < 1024 or unit == "PiB":
+            return f"{n:.3g} {unit}" if unit != "B" else f"{int(n)} B"
+        n /= 1024
+    raise AssertionError  # unreachable
+
+
+def duration(seconds: float) -> str:
+    if seconds < 120:
+        return f"{seconds:.2g} s"
+    if seconds < 7200:
+        return f"{seconds / 60:.3g} min"
+    if seconds < 2 * 86400:
+        return f"{seconds / 3600:.3g} h"
+    return f"{seconds / 86400:.3g} days"
+
+
+def check_memory(case, est: Estimate, available: int | None = None) -> None:
+    """Raise a one-line UserError when ``est`` needs more memory than is available."""
+    avail = available_memory() if available is None else available
+    if avail is None or est.memory_bytes <= avail:
+        return
+    raise UserError(
+        f"{case.path}: {est.key}: the run needs about {size(est.memory_bytes)} of memory "
+        f"({est.particles:.4g} particles, {est.cells} cells, {est.batches} batches), more than "
+        f"the {size(avail)} available; use fewer particles per cell or fewer cells")
+
+
+def long_run_warning(est: Estimate) -> str | None:
+    """A warning line when the estimated run time exceeds :data:`LONG_RUN_SECONDS`."""
+    if est.run_seconds <= LONG_RUN_SECONDS:
+        return None
+    return (f"warning: estimated run time {duration(est.run_seconds)} on {est.threads} threads "
+            f"({est.particle_steps:.3g} particle-steps at an assumed "
+            f"{THROUGHPUT_PER_THREAD:.0e} per second per thread; an estimate)")
+
+
+def guard(case, threads: int | None = None, available: int | None = None) -> Estimate:
+    """Estimate ``case`` and refuse it if it cannot fit in memory; returns the estimate."""
+    est = estimate(case, threads)
+    check_memory(case, est, available)
+    return est
+
+
+def describe(est: Estimate) -> str:
+    """One line for ``dsmc check``: the memory and run-time estimates."""
+    m = est.memory
+    return (f"estimated memory {size(est.memory_bytes)} (particle arrays {size(m['particles'])}, "
+            f"cell and batch arrays {size(m['cells'] + m['batches'])}); estimated run time "
+            f"{duration(est.run_seconds)} on {est.threads} threads ({est.particle_steps:.3g} "
+            f"particle-steps at an assumed {THROUGHPUT_PER_THREAD:.0e}/s per thread)")
