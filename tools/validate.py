@@ -1,0 +1,99 @@
+"""Validation table: the engine against its outside references, with measured deviations.
+
+    python tools/validate.py [--threads 2] [--long]
+
+Runs the checks the test suite makes (equilibrium collision rate, free-molecular gaps,
+near-continuum gaps from the shipped cases) and prints each DSMC value with its standard error,
+the reference value and the relative deviation.  ``--long`` doubles the sampling of every run.
+References: Bird (1994) eq. 4.64 for the collision rate; the exact two-stream free-molecular
+solution and Navier-Stokes-Fourier with slip/jump of :mod:`dsmc.analysis.limits`.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+from pathlib import Path
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT / "tests"))
+
+from conftest import bulk_mean  # noqa: E402
+from test_collisions import BOX, _temperature  # noqa: E402
+from test_gap_limits import FM_CASE, FM_SETS, _slip_solution  # noqa: E402
+
+from dsmc.analysis import limits  # noqa: E402
+from dsmc.case import load_case, parse_case  # noqa: E402
+from dsmc.gas import kinetic  # noqa: E402
+from dsmc.simulation import Simulation, set_threads  # noqa: E402
+
+
+def row(name, value, se, ref):
+    dev = (value - ref) / abs(ref)
+    print(f"{name:58s} {value:12.5g} +- {se:9.2g}   ref {ref:12.5g}   {dev:+7.2%}")
+
+
+def collision_rates(scale):
+    for gas, model in (("Ar", "hs"), ("Ar", "vhs"), ("Ar", "vss"), ("He", "vss"), ("Xe", "vhs")):
+        sim = Simulation(parse_case(BOX.format(gas=gas, model=model, seed=3)))
+        sim.advance(100)
+        sim.reset_samples()
+        sim.advance(1000 * scale, sample=True)
+        sim.close_batch()
+        c = sim.collision_summary()
+        n = sim.n_particles * sim.weight / sim.grid.length
+        theory = kinetic.collision_rate(sim.species[0], _temperature(sim), n, model)
+        row(f"collision rate {gas} {model} (Bird 1994 eq. 4.64)", c["collision_rate"],
+            c["collision_rate"] / math.sqrt(c["collisions"]), theory)
+
+
+def free_molecular(scale):
+    for T1, T2, u1, u2, a1, a2 in FM_SETS:
+        sim = Simulation(parse_case(FM_CASE.format(T0=0.5 * (T1 + T2), T1=T1, T2=T2, u1=u1, u2=u2,
+                                                   a1=a1, a2=a2, seed=101, steps=24000 * scale)))
+        sim.run()
+        n_avg = sim.n_particles * sim.weight / sim.grid.length
+        fm = limits.free_molecular(sim.mass[0], n_avg, T1, T2, u1, u2, a1, a2)
+        w = sim.wall_fields()
+        tag = f"FM T {T1:g}/{T2:g} K, u {u1:g}/{u2:g} m/s, alpha {a1:g}/{a2:g}"
+        if u1 != u2:
+            row(f"{tag}: shear xmax", w[1]["shear_stress"][0][1], w[1]["shear_stress"][1][1], fm.tau)
+        if T1 != T2 or u1 != u2:
+            row(f"{tag}: heat into xmax", w[1]["heat_flux"][0], w[1]["heat_flux"][1], fm.q_wall2)
+            row(f"{tag}: heat from xmin", -w[0]["heat_flux"][0], w[0]["heat_flux"][1], fm.q_wall1)
+
+
+def near_continuum(scale):
+    for name, label in (("shuttle-gap-couette-continuum", "shear"),
+                        ("sensor-gap-fourier-continuum", "heat")):
+        case = load_case(ROOT / "cases" / f"{name}.toml")
+        case = case.with_run(sample_steps=case.run.sample_steps * scale)
+        sim = Simulation(case)
+        sim.run()
+        ref = _slip_solution(sim)
+        if label == "shear":
+            v, se = bulk_mean(sim, "pressure_tensor", lambda P: P[:, 0, 1])
+            row(f"{name}: bulk P_xy vs NSF slip", v, se, ref.tau)
+        else:
+            v, se = bulk_mean(sim, "heat_flux", lambda h: h[:, 0])
+            row(f"{name}: bulk q_x vs NSF jump", v, se, ref.q_wall1)
+
+
+def main():
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--threads", type=int, default=None)
+    p.add_argument("--long", action="store_true", help="twice the sampling of every run")
+    args = p.parse_args()
+    set_threads(args.threads)
+    scale = 2 if args.long else 1
+    print(f"{'check':58s} {'DSMC':>12s}    {'stderr':>9s}   {'reference':>16s}   {'dev':>7s}")
+    collision_rates(scale)
+    free_molecular(scale)
+    near_continuum(scale)
+
+
+if __name__ == "__main__":
+    main()
