@@ -27,7 +27,8 @@ objects by ``tests/test_resources.py``)::
 The estimate is meant to be an upper bound on the peak resident memory of a
 run; ``tests/test_resources.py`` measures the peak of real runs against it.
 
-Run time: particle-steps (``P * (transient_steps + sample_steps)``) at an
+Run time: particle-steps (``P * (transient_steps + sample_steps)``, times ``1 + crossings``
+per step with an explicit time step: every wall hit costs about a particle-step) at an
 assumed, conservative throughput of :data:`THROUGHPUT_PER_THREAD`
 particle-steps per second per thread.  It is labelled an estimate wherever it
 is shown: real throughput depends on the machine and the collision rate.
@@ -76,6 +77,8 @@ BASE_BYTES = 256 * 2**20  # interpreter, numpy, numba, h5py, compiled kernels (m
 
 THROUGHPUT_PER_THREAD = 5e6  # particle-steps per second and thread: an assumed, conservative value
 LONG_RUN_SECONDS = 24 * 3600.0  # warn above this estimated run time
+MAX_CROSSINGS = 1e6  # slab crossings per molecule and step above which a time step is refused
+K_B = 1.380649e-23  # J/K, exact (SI 2019)
 
 
 @dataclass(frozen=True)
@@ -86,6 +89,8 @@ class Estimate:
     memory: dict  # bytes by part: base, particles, cells, batches
     particle_steps: float
     threads: int
+    crossings: float = 0.0  # slab crossings per molecule and step at the most probable speed
+
 
     @property
     def memory_bytes(self) -> int:
@@ -94,7 +99,8 @@ class Estimate:
     @property
     def run_seconds(self) -> float:
         """Estimated wall time at the assumed throughput (an estimate, not a measurement)."""
-        return self.particle_steps / (THROUGHPUT_PER_THREAD * max(1, self.threads))
+        work = self.particle_steps * (1.0 + self.crossings)  # a wall hit costs about a step
+        return work / (THROUGHPUT_PER_THREAD * max(1, self.threads))
 
     @property
     def key(self) -> str:
@@ -126,7 +132,19 @@ def estimate(case, threads: int | None = None) -> Estimate:
     }
     steps = case.run.transient_steps + case.run.sample_steps
     return Estimate(particles, cells, batches, memory, float(particles) * steps,
-                    int(threads) if threads else default_threads())
+                    int(threads) if threads else default_threads(), crossings(case))
+
+
+def crossings(case) -> float:
+    """Slab crossings per molecule and step with an explicit time step, at the most probable
+    speed of the hottest temperature plus the gas drift across the slab (0 for "auto", whose
+    step is at most ``transit_fraction`` of a cell transit)."""
+    dt = case.numerics.time_step
+    if dt is None:
+        return 0.0
+    t_max = max([case.gas.temperature] + [w.temperature for w in case.walls])
+    speed = math.sqrt(2.0 * K_B * t_max / case.gas.species.mass) + abs(case.gas.velocity[0])
+    return dt * speed / case.domain.length
 
 
 def available_memory() -> int | None:
@@ -184,9 +202,21 @@ def long_run_warning(est: Estimate) -> str | None:
             f"{THROUGHPUT_PER_THREAD:.0e} per second per thread; an estimate)")
 
 
+def check_time_step(case, est: Estimate) -> None:
+    """Refuse a time step so long that molecules would bounce between the walls
+    millions of times per step (the move would practically never end)."""
+    if est.crossings > MAX_CROSSINGS:
+        raise UserError(
+            f"{case.path}: numerics.time_step: a molecule would cross the slab about "
+            f"{est.crossings:.3g} times per step (at most {MAX_CROSSINGS:.0e}); use a smaller "
+            "time step or \"auto\"")
+
+
 def guard(case, threads: int | None = None, available: int | None = None) -> Estimate:
-    """Estimate ``case`` and refuse it if it cannot fit in memory; returns the estimate."""
+    """Estimate ``case`` and refuse it if it cannot fit in memory or its time step would
+    make a step endless; returns the estimate."""
     est = estimate(case, threads)
+    check_time_step(case, est)
     check_memory(case, est, available)
     return est
 
