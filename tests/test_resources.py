@@ -272,3 +272,12 @@ def test_resources_module_does_not_import_numba():
     code = "import sys, dsmc.resources; assert 'numba' not in sys.modules, 'numba imported'"
     proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert proc.returncode == 0, proc.stderr
+
+
+def test_guarantees_page_states_the_formula_of_the_code():
+    doc = (Path(__file__).resolve().parents[1] / "docs" / "guarantees.md").read_text()
+    formula = (f"memory ≈ {resources.BASE_BYTES // 2**20} MiB + (1.2 P + 16) × "
+               f"{round(resources.BYTES_PER_PARTICLE)} B + P × "
+               f"{resources.COPY_BYTES_PER_PARTICLE} B + N × {resources.bytes_per_cell()} B + "
+               f"B × N × {resources.bytes_per_batch_cell()} B")
+    assert formula in doc, formula
