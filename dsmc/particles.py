@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from dsmc.kernels.sort import gather
+from dsmc.kernels.sort import gather, gather_rows
 
 SPECIES_DTYPE = np.uint8
 
@@ -49,8 +49,8 @@ class Particles:
 
     def reorder(self, perm: np.ndarray):
         n = self.n
-        gather(self.pos, self._pos, perm, n)
-        gather(self.v, self._v, perm, n)
+        gather_rows(self.pos, self._pos, perm, n)
+        gather_rows(self.v, self._v, perm, n)
         gather(self.sp, self._sp, perm, n)
         self.pos, self._pos = self._pos, self.pos
         self.v, self._v = self._v, self.v

@@ -69,7 +69,17 @@ def counting_sort(key, n, n_keys, start, perm):
 
 @nb.njit(parallel=True, cache=True)
 def gather(src, dst, perm, n):
-    """``dst[i] = src[perm[i]]`` for the first ``n`` entries (rows for 2-D arrays)."""
+    """``dst[i] = src[perm[i]]`` for the first ``n`` entries of a 1-D array."""
     for i in nb.prange(n):
         dst[i] = src[perm[i]]
 
+
+@nb.njit(parallel=True, cache=True)
+def gather_rows(src, dst, perm, n):
+    """``dst[i, :] = src[perm[i], :]`` for the first ``n`` rows, element by element
+    (a row-slice assignment per particle costs several times more)."""
+    m = src.shape[1]
+    for i in nb.prange(n):
+        j = perm[i]
+        for k in range(m):
+            dst[i, k] = src[j, k]
