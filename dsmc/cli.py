@@ -150,6 +150,8 @@ def cmd_sweep(args) -> int:
     res = run_sweep(args.base, pressures=pressures, gaps=gaps, jobs=args.jobs, out_dir=args.out,
                     tolerance=args.tolerance, force=args.force, slip_model=args.model,
                     max_cells=args.max_cells, log=(lambda *a: None) if args.quiet else print)
+    if res.get("rank", 0) != 0:
+        return 0  # under mpiexec rank 0 reports
     print(format_rows(res["rows"]))
     for r in res["rows"]:
         if r.warnings:

@@ -428,15 +428,35 @@ def run_sweep(base_path, pressures=None, gaps=None, jobs: int = 2, out_dir=".",
     # the most expensive (most cells) first, so the pool ends evenly
     order = sorted(range(len(points)), key=lambda i: -points[i].cells)
     timings = [None] * len(points)
-    # spawn, not fork: a forked child of a process whose numba threads are running can hang
-    ctx = multiprocessing.get_context("spawn")
-    with ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_init_worker) as pool:
-        futs = {pool.submit(run_point, points[i].text, f"{base_path}[{points[i].label}]",
-                            outs[i], None, force): i for i in order}
-        for fut in futs:
-            i = futs[fut]
-            timings[i] = fut.result()
-            log(f"point {i} done in {timings[i]['wall_time']:.1f} s -> {outs[i]}")
+    from dsmc.runner import mpi_comm
+
+    comm = mpi_comm()
+    if comm is not None:
+        # under mpiexec: the points are dealt to the ranks (most expensive first, round
+        # robin), each rank runs its own with one thread, and rank 0 summarizes
+        rank, size = comm.Get_rank(), comm.Get_size()
+        mine = {}
+        for i in order[rank::size]:
+            mine[i] = run_point(points[i].text, f"{base_path}[{points[i].label}]", outs[i],
+                                None, force)
+            log(f"rank {rank}: point {i} done in {mine[i]['wall_time']:.1f} s -> {outs[i]}")
+        for part in comm.allgather(mine):
+            for i, t in part.items():
+                timings[i] = t
+        if rank != 0:
+            return {"points": points, "rows": [], "files": outs, "summary": (), "plots": [],
+                    "verdict": None, "elapsed": time.perf_counter() - t0, "rank": rank}
+    else:
+        # spawn, not fork: a forked child of a process whose numba threads are running can hang
+        ctx = multiprocessing.get_context("spawn")
+        with ProcessPoolExecutor(max_workers=jobs, mp_context=ctx,
+                                 initializer=_init_worker) as pool:
+            futs = {pool.submit(run_point, points[i].text, f"{base_path}[{points[i].label}]",
+                                outs[i], None, force): i for i in order}
+            for fut in futs:
+                i = futs[fut]
+                timings[i] = fut.result()
+                log(f"point {i} done in {timings[i]['wall_time']:.1f} s -> {outs[i]}")
     elapsed = time.perf_counter() - t0
     rows = summarize(outs, points, timings, slip_model)
     csv_path, h5_path = write_summary(rows, out_dir, stem, force)

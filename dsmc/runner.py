@@ -9,7 +9,9 @@
 * Ensembles: under ``mpiexec -n R`` every rank runs an independent replica
   (its random streams spawned from the seed with the rank number), the sample
   sums of all ranks are added, and rank 0 writes one result file that equals,
-  statistically, a single run with R times the samples.
+  statistically, a single run with R times the samples.  The steady-state test
+  and the target-error stop decide on the replica mean of their monitored
+  values, so all ranks keep one schedule.
 * Progress: a tqdm bar on a terminal; otherwise a log line every
   ``log_every`` seconds (batch jobs), on rank 0 only.
 """
@@ -149,9 +151,6 @@ def run_case(case, output: Path, *, seed=None, threads=None, force=False, resume
     rank = comm.Get_rank() if comm is not None else None
     ranks = comm.Get_size() if comm is not None else 1
     lead = rank in (None, 0)
-    if comm is not None and (case.run.steady_state == "auto" or case.run.target_error > 0):
-        raise UserError(f"{case.path}: run.steady_state = 'auto' and run.target_error are not "
-                        "supported in MPI ensembles yet (every rank must keep the same schedule)")
     if output.exists() and not force and not resume:
         raise UserError(f"{output}: exists already (use --force to replace it)")
     warning = resources.long_run_warning(resources.guard(case, threads))  # before any allocation
@@ -159,6 +158,11 @@ def run_case(case, output: Path, *, seed=None, threads=None, force=False, resume
         print(f"dsmc: {case.path}: {warning}", file=sys.stderr)
     set_threads(threads)
     sim = Simulation(case, seed=seed, replica=rank)
+    if comm is not None:
+        # schedule decisions from the replica mean of the monitored values: all ranks agree
+        from mpi4py import MPI
+
+        sim.combine = lambda v: comm.allreduce(np.ascontiguousarray(v), op=MPI.SUM) / ranks
     ckpt = checkpoint_path(output, rank)
     if resume:
         sim.restore(read_checkpoint(ckpt, case.text, sim.seed, rank))

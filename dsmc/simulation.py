@@ -113,6 +113,9 @@ class Simulation:
         self._win_sum = np.zeros(9)
         self._win_steps = 0
         self._target_history: list[np.ndarray] = []
+        # ensembles replace this by a mean over the replicas, so that every replica
+        # takes the same schedule decisions (steady state, target error)
+        self.combine = lambda values: values
         self._initialise()
         self.reset_samples()
 
@@ -374,7 +377,8 @@ class Simulation:
         if self.phase == "transient":
             self.step(sample=False)
             self.phase_steps += 1
-            if r.steady_state == "auto" and self._monitor() and steady(np.array(self.windows)):
+            if r.steady_state == "auto" and self._monitor() and steady(
+                    self.combine(np.array(self.windows))):
                 self.steady_detected = True
                 self._start_sampling()
         elif self.phase == "sampling":
@@ -385,7 +389,7 @@ class Simulation:
             if (self._batch.steps >= per_batch and not last) or self.phase_steps >= r.sample_steps:
                 self.close_batch()
                 self._target_history.append(self.target_values(self.batches[-1]))
-                if r.target_error > 0 and target_reached(np.array(self._target_history),
+                if r.target_error > 0 and target_reached(self.combine(np.array(self._target_history)),
                                                          r.target_error):
                     self.phase = "done"
                     self.stop_reason = "target_error"

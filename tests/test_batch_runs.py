@@ -232,3 +232,39 @@ def test_two_rank_ensemble_matches_a_single_run(tmp_path):
             assert np.all(np.abs(ma - mb) < 4 * np.hypot(sa, sb)), name
             # errors smaller by sqrt(2): mean over 40 cells of a 20-batch estimate
             assert abs(np.mean(sa) / np.mean(sb) / math.sqrt(2) - 1) < 0.15, name
+
+
+@pytest.mark.skipif(_mpiexec() is None, reason="no mpiexec (pip install mpi4py mpich)")
+def test_ensemble_keeps_one_schedule_with_auto_transient_and_target(tmp_path):
+    # every rank decides on the replica mean of the monitored values: if they
+    # disagreed, the final reduction would hang (timeout) or the batch counts differ
+    case = tmp_path / "gap.toml"
+    case.write_text(GAP.format(p=24000.0, cells=40, ppc=40, transient=20000, samples=100000,
+                               extra='steady_state = "auto"\ntarget_error = 0.03\n'
+                                     "target_quantities = ['bulk_shear_stress']")
+                    .replace("batches = 20", "batches = 200"))
+    out = tmp_path / "ens.h5"
+    r = subprocess.run([_mpiexec(), "-n", "2", sys.executable, "-m", "dsmc.cli", "run", str(case),
+                        "-o", str(out), "--quiet", "--threads", "1"],
+                       capture_output=True, text=True, timeout=300)
+    assert r.returncode == 0, r.stderr
+    with h5py.File(out) as f:
+        assert f["run"].attrs["ranks"] == 2
+        assert f["run"].attrs["steady_detected"] == 1
+        assert f["run"].attrs["stop_reason"] == "target_error"
+        assert f["run/target_relative_error"][0] <= 0.03 * 1.2
+
+
+@pytest.mark.skipif(_mpiexec() is None, reason="no mpiexec (pip install mpi4py mpich)")
+def test_sweep_points_dealt_to_ranks(tmp_path):
+    case = tmp_path / "base.toml"
+    case.write_text(GAP.format(p=1000.0, cells=20, ppc=20, transient=200, samples=400, extra="")
+                    .replace("batches = 20", "batches = 4").replace("length = 2.0e-6", "length = 1.0e-5"))
+    r = subprocess.run([_mpiexec(), "-n", "2", sys.executable, "-m", "dsmc.cli", "sweep", str(case),
+                        "--pressures", "300,1000,3000", "--out", str(tmp_path / "sw"), "--quiet"],
+                       capture_output=True, text=True, timeout=300)
+    assert r.returncode == 0, r.stderr
+    files = sorted(p.name for p in (tmp_path / "sw").iterdir())
+    assert files[:3] == ["base-00.h5", "base-01.h5", "base-02.h5"]
+    assert "base-summary.csv" in files
+    assert r.stdout.count("verdict") >= 1 and r.stdout.count("sweep of 3 points") == 1
