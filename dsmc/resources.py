@@ -73,7 +73,7 @@ def bytes_per_batch_cell(species: int = 1) -> int:
     return accumulators + fields + error_temporaries
 
 
-BASE_BYTES = 256 * 2**20  # interpreter, numpy, numba, h5py, compiled kernels (measured: 170 MiB)
+BASE_BYTES = 768 * 2**20  # interpreter, numpy, numba, h5py, kernels: 170 MiB warm, 500 MiB compiling on a cold cache (measured)
 
 THROUGHPUT_PER_THREAD = 5e6  # particle-steps per second and thread: an assumed, conservative value
 LONG_RUN_SECONDS = 24 * 3600.0  # warn above this estimated run time
