@@ -139,7 +139,10 @@ class _Table:
             return default
         if isinstance(raw, bool) or not isinstance(raw, (int, float)):
             self.fail(f"expected a number{_unit(unit)}, got {_type_name(raw)}", name)
-        value = float(raw)
+        try:
+            value = float(raw)
+        except OverflowError:  # a TOML integer beyond the double range
+            self.fail(f"out of range{_unit(unit)}, got a {len(str(abs(raw)))}-digit number", name)
         if not math.isfinite(value):
             self.fail(f"must be finite, got {raw}", name)
         _check_range(self, name, value, positive, minimum, maximum, unit)
@@ -198,6 +201,8 @@ class _Table:
 
 
 def _check_range(t: _Table, name, value, positive, minimum, maximum, unit):
+    if isinstance(value, int) and abs(value) > 10**300:  # formatting it with :g would overflow
+        t.fail(f"out of range, got a {len(str(abs(value)))}-digit number", name)
     if positive and not value > 0:
         t.fail(f"must be positive{_unit(unit)}, got {value:g}", name)
     if minimum is not None and value < minimum:

@@ -139,6 +139,27 @@ def reduce_samples(sim: Simulation, comm) -> None:
         if root:
             b.samples, b.steps = samples, steps
 
+def _checked_state(path: Path, state: dict, sim: Simulation) -> dict:
+    """``state`` after checking it has every entry of a fresh state, with compatible shapes."""
+    template = sim.state()
+    for key, ref in template.items():
+        if key not in state:
+            raise UserError(f"{path}: damaged checkpoint: '{key}' is missing")
+        got = np.shape(state[key])
+        want = np.shape(ref)
+        if len(got) != len(want) or got[1:] != want[1:] or (key not in _GROWING and got != want):
+            raise UserError(f"{path}: damaged checkpoint: '{key}' has shape {got}, expected {want}")
+    n = np.shape(state["pos"])[0]
+    if np.shape(state["v"])[0] != n or np.shape(state["sp"])[0] != n:
+        raise UserError(f"{path}: damaged checkpoint: particle arrays differ in length")
+    return state
+
+
+# state entries whose first dimension depends on the run's progress
+_GROWING = {"pos", "v", "sp", "move_state", "windows", "targets", "batch_moments", "batch_walls",
+            "batch_collisions", "batch_samples", "batch_steps"}
+
+
 def run_case(case, output: Path, *, seed=None, threads=None, force=False, resume=False,
              checkpoint_every=900.0, quiet=False, log_every=10.0, report=print,
              on_start=None, on_end=None) -> tuple[int, Simulation]:
@@ -165,7 +186,7 @@ def run_case(case, output: Path, *, seed=None, threads=None, force=False, resume
         sim.combine = lambda v: comm.allreduce(np.ascontiguousarray(v), op=MPI.SUM) / ranks
     ckpt = checkpoint_path(output, rank)
     if resume:
-        sim.restore(read_checkpoint(ckpt, case.text, sim.seed, rank))
+        sim.restore(_checked_state(ckpt, read_checkpoint(ckpt, case.text, sim.seed, rank), sim))
         if lead and not quiet:
             report(f"resumed from {ckpt} at step {sim.step_count} ({sim.phase})")
     if lead and on_start is not None:
