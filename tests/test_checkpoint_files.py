@@ -226,7 +226,7 @@ def test_resume_refuses_an_incomplete_state(setup, capsys, damage):
     case, out, ckpt = setup
     make_checkpoint(ckpt)
     damage(ckpt)
-    status = resume(case, out)  # a traceback here is the bug
+    status = resume(case, out)  # once a KeyError/ValueError traceback from restore
     assert status == 2
     assert one_error_line(capsys.readouterr().err).startswith(f"dsmc: error: {ckpt}: ")
 

@@ -397,8 +397,7 @@ HAND = [(t, None) for t in SYNTAX] + [
              ("numerics.time_step", 1e100)), "numerics.time_step"),
 ]
 
-# Known bugs in dsmc/case.py (reported, not fixed here). When fixed these pass: move them to
-# HAND. (1) An integer too large for a float escapes as OverflowError instead of a CaseError.
+# Integers too large for a double (once an OverflowError traceback, now a one-line refusal).
 OVERFLOW = [
     (VALID.replace("temperature = 300.0", "temperature = 1" + "0" * 400), "gas.temperature"),
     (VALID.replace("cells = 5", "cells = 1" + "0" * 400), "domain.cells"),
@@ -425,7 +424,8 @@ def test_hand_written(text, key):
     refuse(text, key)
 
 
-# (2) A name given by the user is echoed unescaped, so a line break in it splits the message.
+# Known bug in dsmc/case.py (reported, not fixed here; when fixed these pass: move them to
+# HAND): a name given by the user is echoed unescaped, so a line break in it splits the message.
 LINE_BREAKS = [
     (mutated(("boundary.xmin.model", "diffuse\nx")), "boundary.xmin.model"),
     (mutated(("gas.species", "Ar\r\nAr")), "gas.species"),
@@ -436,7 +436,7 @@ LINE_BREAKS = [
 
 @pytest.mark.parametrize("text, key", OVERFLOW, ids=["number", "cells", "sample_steps"])
 def test_huge_integer_literal(text, key):
-    refuse(text, key, commands=("check",), count=False)
+    refuse(text, key)
 
 
 @pytest.mark.xfail(strict=True, raises=AssertionError,

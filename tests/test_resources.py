@@ -9,6 +9,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import numba
 import pytest
 
 from dsmc import resources
@@ -41,6 +42,14 @@ batches = {batches}
 
 def case(cells=5, ppc=10, steps=40, batches=2, path="sized.toml"):
     return parse_case(CASE.format(cells=cells, ppc=ppc, steps=steps, batches=batches), path)
+
+
+@pytest.fixture(autouse=True)
+def _restore_threads():
+    """`dsmc run --threads 1` sets numba's thread count for the process: put it back."""
+    n = numba.get_num_threads()
+    yield
+    numba.set_num_threads(n)
 
 
 def one_error_line(err: str) -> str:
@@ -160,8 +169,8 @@ def test_guard_names_the_dominant_key(cells, ppc, batches, key):
 
 @pytest.fixture
 def little_memory(monkeypatch):
-    """Pretend 300 MiB are available, and make building a Simulation an error."""
-    monkeypatch.setattr(resources, "available_memory", lambda: 300 * 2**20)
+    """Pretend 2 GiB are available, and make building a Simulation an error."""
+    monkeypatch.setattr(resources, "available_memory", lambda: 2 * 2**30)
 
     def no_simulation(*a, **k):
         raise AssertionError("a Simulation was built for a refused case")
@@ -173,7 +182,7 @@ def little_memory(monkeypatch):
 @pytest.mark.parametrize("command", ["run", "check"])
 def test_cli_refuses_before_allocating(tmp_path, capsys, little_memory, command):
     path = tmp_path / "big.toml"
-    path.write_text(CASE.format(cells=10000, ppc=1000, steps=20, batches=20), encoding="utf-8")
+    path.write_text(CASE.format(cells=100000, ppc=1000, steps=20, batches=20), encoding="utf-8")
     argv = [command, str(path)] + (["-o", str(tmp_path / "big.h5")] if command == "run" else [])
     assert main(argv) == 2
     out, err = capsys.readouterr()
@@ -184,7 +193,7 @@ def test_cli_refuses_before_allocating(tmp_path, capsys, little_memory, command)
 
 
 def test_a_case_that_fits_still_runs(tmp_path, capsys, monkeypatch):
-    monkeypatch.setattr(resources, "available_memory", lambda: 300 * 2**20)
+    monkeypatch.setattr(resources, "available_memory", lambda: 2 * 2**30)
     path = tmp_path / "small.toml"
     path.write_text(CASE.format(cells=5, ppc=10, steps=4, batches=2), encoding="utf-8")
     assert main(["run", str(path), "-o", str(tmp_path / "s.h5"), "--quiet", "--threads", "1"]) == 0
