@@ -118,7 +118,7 @@ class _Table:
 
     def fail(self, message: str, key: str | None = None):
         where = self.key(key) if key is not None else (self.path or "(top level)")
-        raise CaseError(f"{self.file}: {where}: {message}")
+        raise CaseError(_one_line(f"{self.file}: {where}: {message}"))
 
     def has(self, name: str) -> bool:
         self.used.add(name)  # a known key: finish() may suggest it for a misspelling
@@ -209,6 +209,11 @@ def _check_range(t: _Table, name, value, positive, minimum, maximum, unit):
         t.fail(f"must be at least {minimum:g}{_unit(unit)}, got {value:g}", name)
     if maximum is not None and value > maximum:
         t.fail(f"must be at most {maximum:g}{_unit(unit)}, got {value:g}", name)
+
+
+def _one_line(text: str) -> str:
+    """Escape line breaks and other unprintable characters echoed from the case file."""
+    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
 
 
 def _unit(unit: str) -> str:

@@ -22,6 +22,9 @@ import numpy as np
 from dsmc.kernels.surfaces import PERIODIC, W_MODEL, reflect
 
 N_WALL_ACC = 5
+# wall hits one particle may make in one step; reached only by absurd time steps, where the
+# remaining flight time no longer decreases in floating point (the particle then stays at the wall)
+MAX_HITS = 100_000
 
 
 @nb.njit(inline="always")
@@ -64,6 +67,7 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
             m = mass[sp[i]]
             xi = pos[i, 0]
             t = dt
+            hits = 0
             while True:
                 xn = xi + vi[0] * t
                 if xn < 0.0:
@@ -77,7 +81,8 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
                 else:
                     xi = xn
                     break
-                if t <= 0.0:
+                hits += 1
+                if t <= 0.0 or hits >= MAX_HITS:
                     break
             pos[i, 0] = xi
 
