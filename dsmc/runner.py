@@ -174,6 +174,8 @@ def run_case(case, output: Path, *, seed=None, threads=None, force=False, resume
     lead = rank in (None, 0)
     if output.exists() and not force and not resume:
         raise UserError(f"{output}: exists already (use --force to replace it)")
+    if not (output.parent if str(output.parent) else Path(".")).is_dir():
+        raise UserError(f"{output}: directory {output.parent} does not exist")
     warning = resources.long_run_warning(resources.guard(case, threads))  # before any allocation
     if warning and lead and not quiet:
         print(f"dsmc: {case.path}: {warning}", file=sys.stderr)

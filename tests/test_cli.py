@@ -368,3 +368,10 @@ def test_run_batches_as_the_case_says(tmp_path, steps, interval):
     with h5py.File(out, "r") as f:
         got = {k: int(f[f"run/{k}"][()]) for k in ("batches", "sampled_steps", "samples")}
     assert got == {"batches": 2, "sampled_steps": steps, "samples": steps // interval}
+
+
+def test_run_refuses_a_missing_output_directory_before_running(tmp_path, capsys):
+    case = write(tmp_path / "tiny.toml", TINY)
+    assert main(["run", str(case), "-o", str(tmp_path / "no" / "x.h5")]) == 2
+    line = one_error_line(capsys.readouterr().err)
+    assert "does not exist" in line
