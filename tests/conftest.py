@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import numba
 import numpy as np
 import pytest
 
@@ -25,3 +26,20 @@ def relative(a, b):
 @pytest.fixture
 def cases_dir():
     return CASES
+
+
+@pytest.fixture(autouse=True)
+def _restore_threads():
+    """`dsmc run --threads 1` sets numba's thread count for the process: put it back."""
+    n = numba.get_num_threads()
+    yield
+    numba.set_num_threads(n)
+
+
+def one_error_line(err: str) -> str:
+    """The single stderr line of a user error (asserts there is exactly one, no traceback)."""
+    lines = err.splitlines()
+    assert len(lines) == 1, err
+    assert lines[0].startswith("dsmc: error: "), err
+    assert "Traceback" not in err
+    return lines[0]

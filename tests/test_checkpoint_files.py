@@ -15,7 +15,6 @@ from pathlib import Path
 
 import h5py
 import numpy as np
-import numba
 import pytest
 
 from dsmc.case import parse_case
@@ -25,6 +24,8 @@ from dsmc.io.checkpoint import write_checkpoint
 from dsmc.io.results import write_results
 from dsmc.runner import checkpoint_path
 from dsmc.simulation import Simulation
+
+from conftest import one_error_line
 
 TEXT = """\
 [gas]
@@ -49,20 +50,6 @@ transient_steps = 10
 sample_steps = 40
 batches = 4
 """
-
-
-@pytest.fixture(autouse=True)
-def _restore_threads():
-    """`dsmc run --threads 1` sets numba's thread count for the process: put it back."""
-    n = numba.get_num_threads()
-    yield
-    numba.set_num_threads(n)
-
-
-def one_error_line(err: str) -> str:
-    lines = err.splitlines()
-    assert len(lines) == 1 and lines[0].startswith("dsmc: error: ") and "Traceback" not in err, err
-    return lines[0]
 
 
 def make_checkpoint(path: Path, text: str = TEXT, steps: int = 25, seed=None) -> Path:

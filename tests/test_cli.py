@@ -17,10 +17,10 @@ import sys
 from pathlib import Path
 
 import h5py
-import numba
 import pytest
 
 from dsmc.cli import main
+from conftest import one_error_line
 
 ROOT = Path(__file__).resolve().parents[1]
 SHIPPED = sorted((ROOT / "cases").glob("*.toml"))
@@ -62,26 +62,9 @@ FIGURES = ("cell_size_over_mean_free_path", "time_step_over_collision_time",
            "cell_transit_fraction", "particles_per_cell", "knudsen_number")
 
 
-@pytest.fixture(autouse=True)
-def _restore_threads():
-    """`dsmc run --threads 1` sets numba's thread count for the process: put it back."""
-    n = numba.get_num_threads()
-    yield
-    numba.set_num_threads(n)
-
-
 def write(path: Path, text: str) -> Path:
     path.write_text(text, encoding="utf-8")
     return path
-
-
-def one_error_line(err: str) -> str:
-    """The single stderr line of a user error (asserts there is exactly one)."""
-    lines = err.splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith("dsmc: error: "), err
-    assert "Traceback" not in err
-    return lines[0]
 
 
 def number_after(label: str, text: str) -> float:

@@ -23,7 +23,6 @@ import sys
 import tempfile
 from pathlib import Path
 
-import numba
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -37,13 +36,6 @@ COUNT = {"tried": 0, "rejected": 0}
 FUZZ = settings(derandomize=True, max_examples=60, deadline=None, database=None,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
 
-
-@pytest.fixture(autouse=True)
-def _restore_threads():
-    """`dsmc run --threads 1` sets numba's thread count for the process: put it back."""
-    n = numba.get_num_threads()
-    yield
-    numba.set_num_threads(n)
 
 # ----------------------------------------------------------------------------
 # a TOML writer (inline tables and dates too, so any value type can be put anywhere)

@@ -9,7 +9,6 @@ import subprocess
 import sys
 from pathlib import Path
 
-import numba
 import pytest
 
 from dsmc import resources
@@ -18,6 +17,7 @@ from dsmc.cli import main
 from dsmc.errors import UserError
 from dsmc.kernels import collide, sample, sort
 from dsmc.simulation import BLOCK_SIZE, Simulation
+from conftest import one_error_line
 
 CASE = """
 [gas]
@@ -42,20 +42,6 @@ batches = {batches}
 
 def case(cells=5, ppc=10, steps=40, batches=2, path="sized.toml"):
     return parse_case(CASE.format(cells=cells, ppc=ppc, steps=steps, batches=batches), path)
-
-
-@pytest.fixture(autouse=True)
-def _restore_threads():
-    """`dsmc run --threads 1` sets numba's thread count for the process: put it back."""
-    n = numba.get_num_threads()
-    yield
-    numba.set_num_threads(n)
-
-
-def one_error_line(err: str) -> str:
-    lines = err.splitlines()
-    assert len(lines) == 1 and lines[0].startswith("dsmc: error: "), err
-    return lines[0]
 
 
 # ----------------------------------------------------------------------------
