@@ -4,17 +4,19 @@ from __future__ import annotations
 
 import numpy as np
 
-from dsmc.kernels.sort import gather, gather_rows
+from dsmc.kernels.sort import histogram, scatter_sorted
 
 SPECIES_DTYPE = np.uint8
+KEY_DTYPE = np.int32
 
 
 class Particles:
     """Positions ``pos`` (n, dim), velocities ``v`` (n, 3), species ``sp`` (n,).
 
     Arrays have room for ``capacity`` particles; the first ``n`` are live.
-    :meth:`reorder` applies a permutation through scratch arrays of the same
-    size and swaps them in, so no allocation happens in the time loop.
+    ``key`` holds each particle's cell after a move.  :meth:`sort` scatters
+    the particles into cell order through scratch arrays of the same size and
+    swaps them in, so no allocation happens in the time loop.
     """
 
     def __init__(self, capacity: int, dim: int):
@@ -26,6 +28,7 @@ class Particles:
         self.pos = np.zeros((cap, self.dim))
         self.v = np.zeros((cap, 3))
         self.sp = np.zeros(cap, dtype=SPECIES_DTYPE)
+        self.key = np.zeros(cap, dtype=KEY_DTYPE)
         self._pos = np.empty_like(self.pos)
         self._v = np.empty_like(self.v)
         self._sp = np.empty_like(self.sp)
@@ -47,14 +50,22 @@ class Particles:
     def _live(self):
         return self.pos, self.v, self.sp
 
-    def reorder(self, perm: np.ndarray):
+    def sort(self, n_keys: int, hist: np.ndarray, start: np.ndarray, block_size: int,
+             counted: bool = False):
+        """Stable sort of the live particles by ``key`` into cell order.
+
+        ``hist`` (``SORT_CHUNKS`` x ``n_keys``) holds the per-chunk key
+        histogram when ``counted`` (the move kernel fills it); otherwise it is
+        computed here.  ``start`` receives the first position of each key.
+        """
         n = self.n
-        gather_rows(self.pos, self._pos, perm, n)
-        gather_rows(self.v, self._v, perm, n)
-        gather(self.sp, self._sp, perm, n)
+        if not counted:
+            histogram(self.key, n, n_keys, block_size, hist)
+        scatter_sorted(self.key, n, n_keys, block_size, hist, start, self.pos, self.v, self.sp,
+                       self._pos, self._v, self._sp)
         self.pos, self._pos = self._pos, self.pos
         self.v, self._v = self._v, self.v
         self.sp, self._sp = self._sp, self.sp
 
     def nbytes(self) -> int:
-        return sum(a.nbytes for a in (*self._live(), self._pos, self._v, self._sp))
+        return sum(a.nbytes for a in (*self._live(), self.key, self._pos, self._v, self._sp))

@@ -13,9 +13,9 @@ objects by ``tests/test_resources.py``)::
 
     capacity = 1.2 P + 16                   particle arrays are allocated with 20 % headroom
     memory   = BASE
-             + capacity * BYTES_PER_PARTICLE    positions, velocities, species and their
-                                                reorder copies (Particles.nbytes = 66 per slot),
-                                                sort keys (4) and permutation (8); plus the
+             + capacity * BYTES_PER_PARTICLE    positions, velocities, species, their sort
+                                                scratch copies and the cell keys
+                                                (Particles.nbytes = 70 per slot); plus the
                                                 move streams and wall accumulators per block
              + P * COPY_BYTES_PER_PARTICLE      copy of the live particles taken by a checkpoint
                                                 (or read back on --resume)
@@ -46,14 +46,14 @@ from dsmc.errors import UserError
 CAPACITY_FACTOR = 1.2  # Simulation allocates int(1.2 * particles) + 16 slots
 CAPACITY_EXTRA = 16
 BLOCK_SIZE = 4096  # particles per move stream (dsmc.simulation.BLOCK_SIZE)
-PARTICLE_ARRAYS = 2 * (8 * 1 + 8 * 3 + 1)  # pos (n, 1), v (n, 3), sp (n,), and scratch copies: 66
-SORT_ARRAYS = 4 + 8  # int32 key + int64 permutation per slot
+# pos (n, 1), v (n, 3), sp (n,) and their scratch copies, int32 cell key: 70
+PARTICLE_ARRAYS = 2 * (8 * 1 + 8 * 3 + 1) + 4
 BLOCK_BYTES = 4 * 8 + 2 * 5 * 8  # per block: xoshiro state (4 uint64), wall accumulators (2 x 5)
-BYTES_PER_PARTICLE = PARTICLE_ARRAYS + SORT_ARRAYS + BLOCK_BYTES / BLOCK_SIZE
+BYTES_PER_PARTICLE = PARTICLE_ARRAYS + BLOCK_BYTES / BLOCK_SIZE
 COPY_BYTES_PER_PARTICLE = 8 * 1 + 8 * 3 + 1  # state(): copies of pos, v, sp
 MOMENTS = 13  # sampled moments per cell and species (dsmc.kernels.sample.N_MOMENTS)
 COLL_STATS = 2  # per-cell collision statistics (dsmc.kernels.collide.N_COLL_STATS)
-SORT_CHUNKS = 16  # histogram chunks of the parallel counting sort (int32 each)
+SORT_CHUNKS = 16  # histogram rows of the counting sort (int32 each; dsmc.kernels.sort)
 
 
 def bytes_per_cell(species: int = 1) -> int:
@@ -61,7 +61,7 @@ def bytes_per_cell(species: int = 1) -> int:
                   + 4 * 8  # collision stream state
                   + COLL_STATS * 8)  # collision counters
     batch = MOMENTS * 8 * species + COLL_STATS * 8  # the open batch
-    sort = 4 * SORT_CHUNKS  # histograms, allocated at every sort
+    sort = 4 * SORT_CHUNKS  # per-chunk sort histograms
     initial = 8 * (1 + 3 + 1 + 1 + 1 + 1 + 1)  # T, u, rel, expected, counts, start, uniforms
     return persistent + batch + sort + initial
 

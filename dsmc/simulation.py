@@ -46,7 +46,7 @@ from dsmc.kernels.collide import N_COLL_STATS, collide_ntc
 from dsmc.kernels.move import N_WALL_ACC, move_1d, n_blocks
 from dsmc.kernels.rng import fill_cells_1d, new_streams
 from dsmc.kernels.sample import N_MOMENTS, sample_cells
-from dsmc.kernels.sort import counting_sort, keys_1d
+from dsmc.kernels.sort import SORT_CHUNKS, keys_1d
 from dsmc.models import COLLISION_MODELS, wall_row
 from dsmc.particles import Particles
 from dsmc.steady import relative_errors, steady, target_reached
@@ -97,8 +97,7 @@ class Simulation:
         self.remainder = np.zeros(nc)
         self.cell_start = np.zeros(nc + 1, dtype=np.int64)
         self.particles = Particles(int(1.2 * n_target) + 16, dim=1)
-        self._key = np.empty(self.particles.capacity, dtype=np.int32)
-        self._perm = np.empty(self.particles.capacity, dtype=np.int64)
+        self._hist = np.zeros((SORT_CHUNKS, nc), dtype=np.int32)  # per-chunk cell counts
         self._wall_acc = np.zeros((self.move_state.shape[0], 2, N_WALL_ACC))
         self._coll = np.zeros((nc, N_COLL_STATS))
         self.step_count = 0
@@ -208,8 +207,6 @@ class Simulation:
         p = self.particles
         if n > p.capacity:
             p.reserve(n)
-            self._key = np.empty(p.capacity, dtype=np.int32)
-            self._perm = np.empty(p.capacity, dtype=np.int64)
         nb_needed = n_blocks(n, BLOCK_SIZE)
         if nb_needed > self.move_state.shape[0]:
             extra = nb_needed - self.move_state.shape[0]
@@ -252,27 +249,37 @@ class Simulation:
 
     # -------------------------------------------------------------------- loop
 
-    def _sort(self):
+    def _sort(self, counted: bool = False):
+        """Sort the particles into cell order; ``counted``: the move kernel has
+        already written their cell keys and the per-chunk histogram."""
         p = self.particles
-        keys_1d(p.pos, p.n, self.grid.length, self.grid.cells, self._key)
-        counting_sort(self._key, p.n, self.grid.cells, self.cell_start, self._perm)
-        p.reorder(self._perm)
+        if not counted:
+            keys_1d(p.pos, p.n, self.grid.length, self.grid.cells, p.key)
+        p.sort(self.grid.cells, self._hist, self.cell_start, BLOCK_SIZE, counted)
+
+    def _move(self):
+        p = self.particles
+        move_1d(p.pos, p.v, p.sp, p.n, self.dt, self.grid.length, self.walls, self.mass,
+                self.move_state, BLOCK_SIZE, self._wall_acc, self.grid.cells, p.key, self._hist)
+
+    def _collide(self):
+        p = self.particles
+        collide_ntc(p.pos, p.v, p.sp, self.cell_start, self.volume, self.weight, self.dt,
+                    self.sgmax, self.remainder, self.pair_c, self.pair_exp, self.pair_alpha,
+                    self.mass, self.coll_state, 0, self._coll)
 
     def step(self, sample: bool = False):
         """One time step; with ``sample`` the wall fluxes and (on schedule) cell moments count."""
         p = self.particles
-        move_1d(p.pos, p.v, p.sp, p.n, self.dt, self.grid.length, self.walls, self.mass,
-                self.move_state, BLOCK_SIZE, self._wall_acc)
-        self._sort()
+        self._move()
+        self._sort(counted=True)
         take = False
         if sample:
             self._since_sample += 1
             take = self._since_sample >= self._interval
         if take and self._batch.samples % 2 == 0:
             sample_cells(p.v, p.sp, self.cell_start, self._batch.moments)  # before collisions
-        collide_ntc(p.pos, p.v, p.sp, self.cell_start, self.volume, self.weight, self.dt,
-                    self.sgmax, self.remainder, self.pair_c, self.pair_exp, self.pair_alpha,
-                    self.mass, self.coll_state, 0, self._coll)
+        self._collide()
         self.step_count += 1
         if sample:
             b = self._batch

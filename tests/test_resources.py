@@ -63,16 +63,15 @@ def test_bytes_per_particle_and_cell_match_the_simulation():
     capacity = resources.CAPACITY_FACTOR * est.particles + resources.CAPACITY_EXTRA
     assert capacity - 2 <= p.capacity <= capacity  # est.particles is rounded up
     assert p.nbytes() == resources.PARTICLE_ARRAYS * p.capacity
-    assert sim._key.nbytes + sim._perm.nbytes == resources.SORT_ARRAYS * p.capacity
     assert sim.n_particles == pytest.approx(est.particles, rel=0.05)
     state = sim.state()
     assert sum(state[k].nbytes for k in ("pos", "v", "sp")) == (
         resources.COPY_BYTES_PER_PARTICLE * sim.n_particles)
     per_cell = [sim.sgmax, sim.remainder, sim.cell_start[1:], sim.volume, sim.coll_state,
-                sim._coll, sim._batch.moments, sim._batch.collisions]
+                sim._coll, sim._batch.moments, sim._batch.collisions, sim._hist]
     counted = sum(a.nbytes for a in per_cell)
     initial = 8 * 9  # initial profiles, freed after set-up
-    assert counted == (resources.bytes_per_cell() - 4 * resources.SORT_CHUNKS - initial) * 37
+    assert counted == (resources.bytes_per_cell() - initial) * 37
     sim.advance(2, sample=True)
     sim.close_batch()
     b = sim.batches[0]

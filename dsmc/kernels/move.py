@@ -19,6 +19,7 @@ from __future__ import annotations
 import numba as nb
 import numpy as np
 
+from dsmc.kernels.sort import chunk_layout
 from dsmc.kernels.surfaces import PERIODIC, W_MODEL, reflect
 
 N_WALL_ACC = 5
@@ -41,8 +42,34 @@ def _hit(v, wall, nx, mass, state, b, acc_row):
     acc_row[4] += 0.5 * mass * (e_in - (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]))
 
 
+@nb.njit(cache=True)
+def _fly(pos, v, i, dt, length, walls, m, state, b, acc):
+    """Flight of particle ``i`` that crosses a wall during the step: hit by hit."""
+    vi = v[i]
+    xi = pos[i, 0]
+    t = dt
+    hits = 0
+    while True:
+        xn = xi + vi[0] * t
+        if xn < 0.0:
+            t -= xi / (-vi[0])
+            xi = 0.0
+            _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0])
+        elif xn > length:
+            t -= (length - xi) / vi[0]
+            xi = length
+            _hit(vi, walls[1], -1.0, m, state, b, acc[b, 1])
+        else:
+            xi = xn
+            break
+        hits += 1
+        if t <= 0.0 or hits >= MAX_HITS:
+            break
+    return xi
+
+
 @nb.njit(parallel=True, cache=True)
-def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
+def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc, n_cells, key, hist):
     """Advance particles ``0..n-1`` of a 1-D slab ``0 <= x <= length`` by ``dt``.
 
     ``pos`` has shape (n, 1); ``v`` (n, 3).
@@ -50,41 +77,40 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
     ``walls`` has two rows (x = 0, x = length); a periodic pair wraps instead.
     ``mass[sp[i]]`` is the molecular mass of particle ``i``.  ``acc`` has shape
     ``(n_blocks, 2, N_WALL_ACC)`` and is overwritten.
+
+    The new cell of each particle (``n_cells`` uniform cells) goes to
+    ``key[i]``, and ``hist`` receives the per-chunk key histogram of
+    :func:`dsmc.kernels.sort.histogram`, so that the sort only has to scatter.
+    Particles are moved chunk by chunk (chunks are runs of whole blocks, one
+    thread each), so the histogram rows need no locking.
     """
-    n_blocks = (n + block_size - 1) // block_size
+    n_chunks, size = chunk_layout(n, block_size)
     periodic = int(walls[0, W_MODEL]) == PERIODIC
-    for b in nb.prange(n_blocks):
-        for w in range(2):
-            for k in range(N_WALL_ACC):
-                acc[b, w, k] = 0.0
-        lo = b * block_size
-        hi = min(n, lo + block_size)
-        for i in range(lo, hi):
-            vi = v[i]
-            if periodic:
-                pos[i, 0] = (pos[i, 0] + vi[0] * dt) % length
-                continue
-            m = mass[sp[i]]
-            xi = pos[i, 0]
-            t = dt
-            hits = 0
-            while True:
-                xn = xi + vi[0] * t
-                if xn < 0.0:
-                    t -= xi / (-vi[0])
-                    xi = 0.0
-                    _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0])
-                elif xn > length:
-                    t -= (length - xi) / vi[0]
-                    xi = length
-                    _hit(vi, walls[1], -1.0, m, state, b, acc[b, 1])
-                else:
-                    xi = xn
-                    break
-                hits += 1
-                if t <= 0.0 or hits >= MAX_HITS:
-                    break
-            pos[i, 0] = xi
+    scale = n_cells / length
+    for ch in nb.prange(n_chunks):
+        row = hist[ch]
+        for k in range(n_cells):
+            row[k] = 0
+        c_lo = ch * size
+        c_hi = min(n, c_lo + size)
+        for b in range(c_lo // block_size, (c_hi + block_size - 1) // block_size):
+            for w in range(2):
+                for k in range(N_WALL_ACC):
+                    acc[b, w, k] = 0.0
+            for i in range(b * block_size, min(c_hi, (b + 1) * block_size)):
+                x = pos[i, 0] + v[i, 0] * dt
+                if periodic:
+                    x = x % length
+                elif x < 0.0 or x > length:
+                    x = _fly(pos, v, i, dt, length, walls, mass[sp[i]], state, b, acc)
+                pos[i, 0] = x
+                k = int(x * scale)
+                if k >= n_cells:
+                    k = n_cells - 1
+                elif k < 0:
+                    k = 0
+                key[i] = k
+                row[k] += 1
 
 
 def n_blocks(n: int, block_size: int) -> int:
