@@ -1,19 +1,53 @@
-"""Counting sort: identical to a stable sort, whatever the chunking."""
+"""Counting sort: identical to a stable sort, whatever the chunking; the move kernel's
+keys and histogram are those the sort would compute itself."""
 
 from __future__ import annotations
 
 import numpy as np
 import pytest
 
-from dsmc.kernels.sort import counting_sort
+from dsmc.case import parse_case
+from dsmc.kernels.sort import SORT_CHUNKS, chunk_layout, histogram, keys_1d, scatter_sorted
+from dsmc.simulation import BLOCK_SIZE, Simulation
+from tests.test_reproducibility import CASE
 
 
-@pytest.mark.parametrize("n,n_keys", [(1, 1), (10, 3), (100_003, 17), (600_001, 25_000)])
-def test_counting_sort_is_the_stable_sort(n, n_keys):
+@pytest.mark.parametrize("n,n_keys", [(0, 3), (1, 1), (10, 3), (100_003, 17), (600_001, 25_000)])
+def test_scatter_is_the_stable_sort(n, n_keys):
     rng = np.random.default_rng(n)
     key = rng.integers(0, n_keys, n).astype(np.int32)
+    pos = rng.random((n, 1))
+    v = rng.normal(size=(n, 3))
+    sp = rng.integers(0, 3, n).astype(np.uint8)
+    hist = np.zeros((SORT_CHUNKS, n_keys), dtype=np.int32)
     start = np.zeros(n_keys + 1, dtype=np.int64)
-    perm = np.empty(n, dtype=np.int64)
-    counting_sort(key, n, n_keys, start, perm)
-    assert np.array_equal(perm, np.argsort(key, kind="stable"))
+    out = np.empty_like(pos), np.empty_like(v), np.empty_like(sp)
+    histogram(key, n, n_keys, BLOCK_SIZE, hist)
+    scatter_sorted(key, n, n_keys, BLOCK_SIZE, hist, start, pos, v, sp, *out)
+    order = np.argsort(key, kind="stable")
+    assert np.array_equal(out[0], pos[order])
+    assert np.array_equal(out[1], v[order])
+    assert np.array_equal(out[2], sp[order])
     assert np.array_equal(start, np.concatenate([[0], np.cumsum(np.bincount(key, minlength=n_keys))]))
+
+
+@pytest.mark.parametrize("n", [0, 1, 4096, 4097, 32768 * 3 + 5, 10**6])
+def test_chunks_are_whole_blocks_covering_all_particles(n):
+    n_chunks, size = chunk_layout(n, BLOCK_SIZE)
+    assert 1 <= n_chunks <= SORT_CHUNKS
+    assert size % BLOCK_SIZE == 0
+    assert (n_chunks - 1) * size < max(n, 1) <= n_chunks * size
+
+
+def test_move_kernel_keys_and_histogram_match_the_sort():
+    sim = Simulation(parse_case(CASE.format(seed=3)))
+    sim.advance(3)
+    p = sim.particles
+    sim._move()
+    key = p.key[: p.n].copy()
+    hist = sim._hist.copy()
+    keys_1d(p.pos, p.n, sim.grid.length, sim.grid.cells, p.key)
+    assert np.array_equal(key, p.key[: p.n])
+    histogram(p.key, p.n, sim.grid.cells, BLOCK_SIZE, sim._hist)
+    n_chunks, _ = chunk_layout(p.n, BLOCK_SIZE)
+    assert np.array_equal(hist[:n_chunks], sim._hist[:n_chunks])

@@ -15,8 +15,9 @@ What it measures, all within one run so that the figures can be compared
 with each other on a noisy machine:
 
 * the phases of :meth:`dsmc.simulation.Simulation.step`, timed one by one by
-  calling the same kernels in the same order (move, keys, counting sort,
-  reorder, sample, collide, wall sums), and the whole ``step`` call; each as
+  calling the same methods in the same order (move with cell keys and
+  histogram, sort scatter, sample, collide, wall sums), and the whole
+  ``step`` call; each as
   particle-steps per second (median over steps).  Thread counts take turns
   in chunks of about 0.2 s; a chunk during which other processes kept more
   than ``--max-others`` cores busy (from /proc/stat) is dropped and re-run;
@@ -41,17 +42,16 @@ particle-step rate times the bytes ``B`` one particle-step must move, over
 the triad bandwidth.  Both are counted the STREAM way: each array element
 read or written counts its size once (the triad 24 B per element) and
 write-allocate traffic is counted for neither.  ``B`` per phase
-(:func:`bytes_per_particle_step`; pos 8 B, v 24 B, sp 1 B, key 4 B, perm 8 B):
+(:func:`bytes_per_particle_step`; pos 8 B, v 24 B, sp 1 B, key 4 B):
 
-    move           41   read pos, v, sp; write pos
-    keys           12   read pos; write key
-    counting sort  16   read key twice (count, scatter); write perm
-    reorder        90   three gathers: perm 3 x 8, read and write pos, v, sp
+    move           45   read pos, v, sp; write pos and the cell key (the
+                        per-chunk histogram stays in cache)
+    sort           70   scatter: read key, pos, v, sp; write pos, v, sp
     sample         25   read v, sp
     collide     25+32c  read v, sp; the fraction c of particles that collide
                         writes v and reads pos (separation statistic)
 
-about 215 B per particle-step at c = 0.2 (per-cell arrays, 40 particles per
+about 171 B per particle-step at c = 0.2 (per-cell arrays, 40 particles per
 cell, are left out).
 
 It asserts nothing: targets are printed next to the figures, and ``--json``
@@ -82,10 +82,8 @@ from dsmc import simulation as simmod  # noqa: E402
 from dsmc.case import parse_case  # noqa: E402
 from dsmc.gas import kinetic  # noqa: E402
 from dsmc.gas.species import get_species  # noqa: E402
-from dsmc.kernels.collide import collide_ntc  # noqa: E402
-from dsmc.kernels.move import move_1d, n_blocks  # noqa: E402
+from dsmc.kernels.move import n_blocks  # noqa: E402
 from dsmc.kernels.sample import sample_cells  # noqa: E402
-from dsmc.kernels.sort import counting_sort, keys_1d  # noqa: E402
 
 # ----------------------------------------------------------------------------- the case
 
@@ -165,10 +163,8 @@ def bytes_per_particle_step(coll_per_particle: float = COLLISIONS_PER_STEP) -> d
     """
     c = coll_per_particle
     return {
-        "move": 8 + 24 + 1 + 8,  # read pos, v (one row), sp; write pos
-        "keys": 8 + 4,  # read pos; write key
-        "counting_sort": 4 + 4 + 8,  # count pass reads key; scatter pass reads key, writes perm
-        "reorder": 3 * 8 + 2 * (8 + 24 + 1),  # three gathers each read perm; read+write pos, v, sp
+        "move": 8 + 24 + 1 + 8 + 4,  # read pos, v (one row), sp; write pos, key
+        "sort": 4 + 2 * (8 + 24 + 1),  # scatter: read key, pos, v, sp; write pos, v, sp
         "sample": 24 + 1,  # read v, sp
         "collide": 24 + 1 + c * (24 + 8),  # read v, sp of the cell; write v, read pos of colliders
         "walls": 0.0,
@@ -288,7 +284,7 @@ class Load:
 
 # ----------------------------------------------------------------------------- phases
 
-PHASES = ("move", "keys", "counting_sort", "reorder", "sample", "collide", "walls")
+PHASES = ("move", "sort", "sample", "collide", "walls")
 
 
 def step_phases(sim, moments, walls, times):
@@ -297,25 +293,18 @@ def step_phases(sim, moments, walls, times):
     bs = simmod.BLOCK_SIZE
     pc = time.perf_counter
     t0 = pc()
-    move_1d(p.pos, p.v, p.sp, p.n, sim.dt, sim.grid.length, sim.walls, sim.mass,
-            sim.move_state, bs, sim._wall_acc)
+    sim._move()
     t1 = pc()
-    keys_1d(p.pos, p.n, sim.grid.length, sim.grid.cells, sim._key)
+    sim._sort(counted=True)
     t2 = pc()
-    counting_sort(sim._key, p.n, sim.grid.cells, sim.cell_start, sim._perm)
-    t3 = pc()
-    p.reorder(sim._perm)
-    t4 = pc()
     sample_cells(p.v, p.sp, sim.cell_start, moments)
-    t5 = pc()
-    collide_ntc(p.pos, p.v, p.sp, sim.cell_start, sim.volume, sim.weight, sim.dt,
-                sim.sgmax, sim.remainder, sim.pair_c, sim.pair_exp, sim.pair_alpha,
-                sim.mass, sim.coll_state, 0, sim._coll)
-    t6 = pc()
+    t3 = pc()
+    sim._collide()
+    t4 = pc()
     walls += sim._wall_acc[: n_blocks(p.n, bs)].sum(axis=0)
-    t7 = pc()
+    t5 = pc()
     sim.step_count += 1
-    for name, dt in zip(PHASES, (t1 - t0, t2 - t1, t3 - t2, t4 - t3, t5 - t4, t6 - t5, t7 - t6)):
+    for name, dt in zip(PHASES, (t1 - t0, t2 - t1, t3 - t2, t4 - t3, t5 - t4)):
         times[name].append(dt)
 
 
@@ -503,7 +492,7 @@ cur, peak = tracemalloc.get_traced_memory()
 rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024
 print(json.dumps({{"particles": sim.n_particles, "tracemalloc_peak": peak,
                   "tracemalloc_current": cur, "maxrss": rss, "maxrss_after_imports": rss0,
-                  "particle_arrays": sim.particles.nbytes() + sim._key.nbytes + sim._perm.nbytes}}))
+                  "particle_arrays": sim.particles.nbytes()}}))
 """
 
 _STARTUP_CHILD = r"""
@@ -749,7 +738,7 @@ def main(argv=None) -> int:
     res["dt_over_tau_c"] = sim.adequacy()["time_step_over_collision_time"]
     steps = args.steps or int(min(60, max(8, 3e7 / n)))
     # engine working set: particle arrays + scratch + key + perm
-    ws = sim.particles.nbytes() + sim._key.nbytes + sim._perm.nbytes
+    ws = sim.particles.nbytes()
     res["triad_ws_array_bytes"] = max(1 << 20, ws // 3)
     res["triad_ws_Bps"] = triad_bandwidth(threads, res["triad_ws_array_bytes"])
     triad = Triad(triad_bytes)
