@@ -92,3 +92,23 @@ def test_vss_deflection_law(alpha):
     se = cos.std() / math.sqrt(n)
     assert abs(cos.mean() - expected) < 4 * se
     assert np.all(np.abs(perp.mean(axis=0)) < 4 / math.sqrt(n))  # no preferred azimuth
+
+
+def test_single_precision_cross_section_stays_within_its_margin():
+    """The NTC kernel evaluates (g^2)^e in single precision and falls back to double
+    precision within SG_FLOAT_MARGIN of a decision; the margin must bound the float error."""
+    import numba as nb
+
+    from dsmc.kernels.collide import SG_FLOAT_MARGIN, SG_FLOAT_MIN
+
+    @nb.njit
+    def single(g2, e):  # the kernel's expression
+        out = np.empty(g2.size)
+        for k in range(g2.size):
+            out[k] = float(np.float32(g2[k]) ** np.float32(e[k]))
+        return out
+
+    rng = np.random.default_rng(5)
+    g2 = 10 ** rng.uniform(np.log10(SG_FLOAT_MIN), 38, 10**6)
+    e = rng.uniform(0.0, 1.0, 10**6)
+    assert np.max(np.abs(single(g2, e) / g2 ** e - 1.0)) < SG_FLOAT_MARGIN / 5
