@@ -76,7 +76,7 @@ FM_SETS = [
 @pytest.mark.parametrize("T1,T2,u1,u2,a1,a2", FM_SETS)
 def test_free_molecular_shear_and_heat_flux(T1, T2, u1, u2, a1, a2):
     text = FM_CASE.format(T0=0.5 * (T1 + T2), T1=T1, T2=T2, u1=u1, u2=u2, a1=a1, a2=a2,
-                          seed=101, steps=24000)
+                          seed=101, steps=32000)
     sim = _run(text)
     n_avg = sim.n_particles * sim.weight / sim.grid.length
     fm = limits.free_molecular(sim.mass[0], n_avg, T1, T2, u1, u2, a1, a2)
