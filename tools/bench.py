@@ -56,6 +56,18 @@ cell, are left out).
 
 It asserts nothing: targets are printed next to the figures, and ``--json``
 writes every figure.
+
+Where the time went and what was done about it (one thread, 1e6 particles,
+ns per particle-step): before, move 8.2, keys 1.3, counting sort 6.3, three
+permutation gathers 12.5, sample 8.3, collide 17.3 (54 in all).  The move
+kernel now writes each particle's cell key and the per-chunk histogram, and
+takes a scalar path for particles that hit no wall; the sort scatters the
+particle data straight to its sorted place (move + sort 28 -> 17); sampling
+sums in scalars per cell (7.2 -> 4.3, measured alone); the scattering azimuth
+comes from a point in the unit disc instead of cos/sin (-3); sigma*g is
+evaluated in single precision with a double fallback near each decision (-2).
+Tried and not kept: a per-chunk local moment array in sampling (8.4 ns against
+6.9), ``exp(e log g^2)`` or ``math.pow`` for the cross-section (no gain).
 """
 
 from __future__ import annotations
