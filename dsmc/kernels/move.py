@@ -9,6 +9,10 @@ wall into ``acc[block, wall, :]``:
 
     0: hits   1..3: m (v_in - v_out)   4: m (|v_in|^2 - |v_out|^2) / 2
 
+An open side (model code ``OPEN``) removes the particle: it is counted as a
+hit with ``v_out = 0`` (so the accumulator holds the number, momentum and
+energy that left) and marked removed by ``pos[i, 0] = -1``; the sort drops it.
+
 Particle ``i`` belongs to block ``i // block_size``, and block ``b`` draws its
 random numbers from stream ``b``: the result does not depend on how blocks are
 spread over threads.
@@ -19,7 +23,7 @@ from __future__ import annotations
 import numba as nb
 import numpy as np
 
-from dsmc.kernels.surfaces import PERIODIC, W_MODEL, reflect
+from dsmc.kernels.surfaces import OPEN, PERIODIC, W_MODEL, reflect
 
 N_WALL_ACC = 5
 # wall hits one particle may make in one step; reached only by absurd time steps, where the
@@ -41,6 +45,15 @@ def _hit(v, wall, nx, mass, state, b, acc_row):
     acc_row[4] += 0.5 * mass * (e_in - (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]))
 
 
+@nb.njit(inline="always")
+def _leave(v, mass, acc_row):
+    acc_row[0] += 1.0
+    acc_row[1] += mass * v[0]
+    acc_row[2] += mass * v[1]
+    acc_row[3] += mass * v[2]
+    acc_row[4] += 0.5 * mass * (v[0] * v[0] + v[1] * v[1] + v[2] * v[2])
+
+
 @nb.njit(parallel=True, cache=True)
 def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
     """Advance particles ``0..n-1`` of a 1-D slab ``0 <= x <= length`` by ``dt``.
@@ -53,6 +66,8 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
     """
     n_blocks = (n + block_size - 1) // block_size
     periodic = int(walls[0, W_MODEL]) == PERIODIC
+    open0 = int(walls[0, W_MODEL]) == OPEN
+    open1 = int(walls[1, W_MODEL]) == OPEN
     for b in nb.prange(n_blocks):
         for w in range(2):
             for k in range(N_WALL_ACC):
@@ -70,7 +85,15 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
             hits = 0
             while True:
                 xn = xi + vi[0] * t
-                if xn < 0.0:
+                if xn < 0.0 and open0:
+                    _leave(vi, m, acc[b, 0])
+                    xi = -1.0
+                    break
+                elif xn > length and open1:
+                    _leave(vi, m, acc[b, 1])
+                    xi = -1.0
+                    break
+                elif xn < 0.0:
                     t -= xi / (-vi[0])
                     xi = 0.0
                     _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0])
