@@ -436,7 +436,8 @@ ERRORS = [
     (_set("gas.collision_model", "vhd"), "gas.collision_model",
      "'vhd' is not one of 'hs', 'vhs', 'vss' " + SUGGEST.format("vhs")),
     (_wall("xmax", model="difuse"), "boundary.xmax.model",
-     "'difuse' is not one of 'specular', 'diffuse', 'maxwell', 'cll', 'periodic' "
+     "'difuse' is not one of 'specular', 'diffuse', 'maxwell', 'cll', 'periodic', "
+     "'inflow', 'outflow', 'pressure' "
      + SUGGEST.format("diffuse")),
     (_wall("xmin", model="maxwel"), "boundary.xmin.model", SUGGEST.format("maxwell")),
     (_set("initial.profile", "linera"), "initial.profile", SUGGEST.format("linear")),
