@@ -54,7 +54,7 @@ from dsmc.particles import Particles
 from dsmc.steady import relative_errors, steady, target_reached
 
 BLOCK_SIZE = 4096  # particles per random stream in the move kernel
-RELAX_STEPS = 50.0  # steps over which a 'pressure' side's reservoir drift follows the gas
+RELAX_STEPS = 500.0  # steps over which a 'pressure' side's reservoir drift follows the gas
 WALL_NORMALS = (np.array([1.0, 0.0]), np.array([-1.0, 0.0]))  # into the gas at xmin, xmax
 
 
