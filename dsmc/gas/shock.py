@@ -84,30 +84,43 @@ def fluxes(n, T, u, mass) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return rho * u, p + rho * u * u, rho * u * (2.5 * K_B * T / mass + 0.5 * u * u)
 
 
+def slope_filter(half_width: int) -> np.ndarray:
+    """Savitzky-Golay weights (Savitzky and Golay 1964, Anal. Chem. 36, 1627): the derivative at
+    the centre of the least-squares cubic through ``2 half_width + 1`` equally spaced points, per
+    unit spacing.  Exact for cubics, so a smooth profile is not flattened the way a noisy
+    two-point difference is sharpened by its noise."""
+    k = np.arange(-half_width, half_width + 1, dtype=float)
+    vander = np.vander(k, 4, increasing=True)  # 1, k, k^2, k^3
+    return np.linalg.pinv(vander)[1]
+
+
 def max_slope_thickness(x: np.ndarray, n: np.ndarray, n1: float, n2: float,
-                        smooth: int = 1) -> tuple[float, float]:
+                        half_width: int = 3) -> tuple[float, float]:
     """``(delta, x_max)``: ``(n2 - n1) / max dn/dx`` from a cell profile, and where the slope peaks.
 
-    The slope is the central difference of the profile, over ``smooth`` cells
-    on each side (``smooth = 1``: neighbouring cells); the peak position is
-    refined by a parabola through the largest slope and its neighbours.
+    The slope at each cell is the derivative of the least-squares cubic through
+    the ``2 half_width + 1`` cells around it (:func:`slope_filter`); the peak
+    position is refined by a parabola through the largest slope and its
+    neighbours.  Cells must be equally spaced.
     """
     x = np.asarray(x, dtype=float)
     n = np.asarray(n, dtype=float)
-    k = int(smooth)
-    slope = (n[2 * k:] - n[:-2 * k]) / (x[2 * k:] - x[:-2 * k])
-    xs = x[k:-k]
+    k = int(half_width)
+    dx = x[1] - x[0]
+    w = slope_filter(k)
+    slope = np.array([w @ n[i - k:i + k + 1] for i in range(k, n.size - k)]) / dx
+    xs = x[k:n.size - k]
     i = int(np.nanargmax(slope))
     x_peak = xs[i]
     if 0 < i < slope.size - 1:
         a, b, c = slope[i - 1], slope[i], slope[i + 1]
         den = a - 2.0 * b + c
         if den < 0:
-            x_peak = xs[i] + 0.5 * (a - c) / den * (xs[1] - xs[0])
+            x_peak = xs[i] + 0.5 * (a - c) / den * dx
     return float((n2 - n1) / slope[i]), float(x_peak)
 
 
-def thickness_with_error(x, n_batches, samples, n1, n2, smooth: int = 1):
+def thickness_with_error(x, n_batches, samples, n1, n2, half_width: int = 3):
     """Max-slope thickness of the sample-weighted mean profile and its jackknife standard error.
 
     ``n_batches`` (B, N) are the batch density profiles, ``samples`` (B,) their
@@ -120,10 +133,10 @@ def thickness_with_error(x, n_batches, samples, n1, n2, smooth: int = 1):
     w = np.asarray(samples, dtype=float)
     total = (nb * w[:, None]).sum(0)
     mean = total / w.sum()
-    delta, x_peak = max_slope_thickness(x, mean, n1, n2, smooth)
+    delta, x_peak = max_slope_thickness(x, mean, n1, n2, half_width)
     b = nb.shape[0]
     loo = np.array([max_slope_thickness(x, (total - nb[i] * w[i]) / (w.sum() - w[i]), n1, n2,
-                                        smooth)[0] for i in range(b)])
+                                        half_width)[0] for i in range(b)])
     err = math.sqrt((b - 1) / b * np.sum((loo - loo.mean()) ** 2)) if b > 1 else math.nan
     return delta, err, x_peak
 
