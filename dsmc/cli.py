@@ -66,12 +66,25 @@ def cmd_run(args) -> int:
               f"M particle-steps/s); sampling from step {sim.transient_end_step}, "
               f"stopped by {sim.stop_reason}")
         _print_adequacy(figures, adequacy_warnings(figures))
-        for side, w in zip(("xmin", "xmax"), sim.wall_fields()):
+        for side, w, fl in zip(("xmin", "xmax"), sim.wall_fields(), sim.open_side_fluxes()):
+            if fl is not None:
+                fin, fin_se = fl["inflow_number_flux"]
+                fout, fout_se = fl["outflow_number_flux"]
+                print(f"open side {side}: molecules entering {fin:.5g} +- {fin_se:.2g}, leaving "
+                      f"{fout:.5g} +- {fout_se:.2g} 1/(m^2 s)")
+                continue
             tau, tau_se = w["shear_stress"]
             q, q_se = w["heat_flux"]
             p, p_se = w["pressure"]
             print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_y {tau[1]:.5g} +- "
                   f"{tau_se[1]:.2g} Pa, heat flux into wall {q:.5g} +- {q_se:.2g} W/m^2")
+        if sim.shock is not None:
+            s = sim.shock_profile()
+            v, v_se = s["inverse_density_thickness"]
+            print(f"shock M {sim.shock.mach1:g}: density thickness {s['thickness'][0]:.4g} +- "
+                  f"{s['thickness'][1]:.2g} m, lambda1/delta {v:.4f} +- {v_se:.4f} "
+                  f"(lambda1 {s['mean_free_path_upstream']:.4g} m), steepest slope at "
+                  f"x = {s['x_shock']:.4g} m")
         print(f"wrote {out}")
 
     status, _ = run_case(case, out, seed=args.seed, threads=args.threads, force=args.force,

@@ -514,6 +514,8 @@ class Simulation:
         if r.target_quantities:
             return r.target_quantities
         w0, w1 = self.case.walls
+        if w0.is_open or w1.is_open:  # reservoir states are not wall motions or temperatures
+            return ("bulk_temperature",)
         q = []
         if w0.velocity != w1.velocity:
             q.append("bulk_shear_stress")

@@ -28,12 +28,14 @@ import math
 import numpy as np
 import pytest
 
-from dsmc.case import parse_case
+from dsmc.case import load_case, parse_case
 from dsmc.errors import CaseError
 from dsmc.gas import kinetic
 from dsmc.gas.shock import fluxes, jump_ratios, upstream_mean_free_path
 from dsmc.gas.species import get_species
 from dsmc.simulation import Simulation, result_tree
+
+from conftest import ROOT
 
 AR = get_species("Ar")
 T1, N1 = 300.0, 1.0e21
@@ -180,3 +182,25 @@ def test_shock_case_errors_are_one_line(extra, boundary, key, message):
     msg = str(err.value)
     assert "\n" not in msg and msg.startswith(f"s.toml: {key}: "), msg
     assert message in msg, msg
+
+
+def test_shipped_shock_case_is_argon_between_mach_1_5_and_10(cases_dir):
+    paths = sorted(cases_dir.glob("*-shock-*.toml"))
+    assert paths
+    for p in paths:
+        case = load_case(p)
+        assert case.gas.species.name == "Ar" and 1.5 <= case.shock.mach <= 10
+        assert [w.model for w in case.walls] == ["inflow", "inflow"]
+
+
+def test_plot_tool_draws_a_shock_result(tmp_path):
+    import importlib.util
+
+    from dsmc.io.results import write_results
+
+    res = write_results(tmp_path / "shock.h5", result_tree(run(3.0)))
+    spec = importlib.util.spec_from_file_location("plot_shock", ROOT / "tools" / "plot_shock.py")
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    assert mod.main([str(res), "-o", str(tmp_path / "s.png")]) == 0
+    assert (tmp_path / "s.png").stat().st_size > 10_000
