@@ -158,6 +158,20 @@ def _float_list(text: str, option: str) -> list[float]:
 def cmd_sweep(args) -> int:
     from dsmc.parallel import format_rows, format_verdict, run_sweep
 
+    if args.machs:
+        from dsmc.parallel import format_mach_rows, run_mach_sweep
+
+        res = run_mach_sweep(args.base, _float_list(args.machs, "--machs"), jobs=args.jobs,
+                             out_dir=args.out, force=args.force,
+                             log=(lambda *a: None) if args.quiet else print)
+        if res.get("rank", 0) not in (None, 0):
+            return 0
+        print(format_mach_rows(res["rows"]))
+        for p in (*res["summary"], *res["plots"]):
+            print(f"wrote {p}")
+        print(f"Mach sweep of {len(res['rows'])} points done in {res['elapsed']:.1f} s "
+              f"with {args.jobs} jobs")
+        return 0
     pressures = _float_list(args.pressures, "--pressures") if args.pressures else None
     gaps = _float_list(args.gaps, "--gaps") if args.gaps else None
     res = run_sweep(args.base, pressures=pressures, gaps=gaps, jobs=args.jobs, out_dir=args.out,
@@ -231,15 +245,21 @@ def build_parser() -> argparse.ArgumentParser:
     cp.set_defaults(func=cmd_compare)
 
     sw = sub.add_parser("sweep", help="run a base case over pressures or gaps and judge the "
-                        "slip model", description="Build one case per pressure or gap from a base "
+                        "slip model, or a shock case over Mach numbers",
+                        description="Build one case per pressure or gap from a base "
                         "case (cells kept below lambda/3, particles per cell kept), run them in "
                         "parallel, write one HDF5 per point, a summary (CSV, HDF5), a plot of "
                         "tau/tau_FM and q/q_FM against Kn, and print where the slip model departs "
-                        "from DSMC by more than the tolerance.")
+                        "from DSMC by more than the tolerance. With --machs and a [shock] base "
+                        "case: one run per Mach number, a summary and a plot of the inverse "
+                        "density thickness lambda1/delta against M.")
     sw.add_argument("base", help="base case file (TOML)")
     grp = sw.add_mutually_exclusive_group(required=True)
     grp.add_argument("--pressures", metavar="P1,P2,...", help="gas pressures, Pa")
     grp.add_argument("--gaps", metavar="L1,L2,...", help="gap widths, m")
+    grp.add_argument("--machs", metavar="M1,M2,...",
+                     help="upstream Mach numbers of a [shock] base case: one run each, summary "
+                          "and plot of the inverse density thickness")
     sw.add_argument("--jobs", type=int, default=2, help="parallel processes (default 2)")
     sw.add_argument("--out", default=".", metavar="DIR", help="output directory (default .)")
     sw.add_argument("--tolerance", type=float, default=0.05,

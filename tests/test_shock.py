@@ -35,7 +35,7 @@ from dsmc.gas.shock import fluxes, jump_ratios, upstream_mean_free_path
 from dsmc.gas.species import get_species
 from dsmc.simulation import Simulation, result_tree
 
-from conftest import ROOT
+from conftest import CASES as CASES_DIR, ROOT
 
 AR = get_species("Ar")
 T1, N1 = 300.0, 1.0e21
@@ -204,3 +204,31 @@ def test_plot_tool_draws_a_shock_result(tmp_path):
     spec.loader.exec_module(mod)
     assert mod.main([str(res), "-o", str(tmp_path / "s.png")]) == 0
     assert (tmp_path / "s.png").stat().st_size > 10_000
+
+
+def test_mach_sweep_through_the_sweep_verb(tmp_path, capsys):
+    """`dsmc sweep BASE --machs`: one result per Mach number, summary CSV/HDF5 and plot; the
+    summary values are those of the point files' /shock groups."""
+    import csv
+
+    import h5py
+
+    from dsmc.cli import main
+
+    base = tmp_path / "base.toml"
+    base.write_text(shock_text(3.0, cells=80, steps=300, ppc=30), encoding="utf-8")
+    out = tmp_path / "out"
+    assert main(["sweep", str(base), "--machs", "4,2", "--jobs", "2", "--out", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "lambda1/delta" in text
+    with open(out / "base-mach-summary.csv", newline="") as fh:
+        rows = list(csv.reader(fh))
+    assert rows[0][0] == "mach [1]" and [float(r[0]) for r in rows[1:]] == [2.0, 4.0]
+    for r in rows[1:]:
+        with h5py.File(r[-1]) as f:
+            assert f["shock/mach"][()] == float(r[0])
+            assert f["shock/inverse_density_thickness"][()] == float(r[1])
+    assert (out / "base-mach-sweep.png").stat().st_size > 5_000
+    assert main(["sweep", str(CASES_DIR / "sweep-shuttle-gap-couette.toml"), "--machs", "2",
+                 "--out", str(tmp_path / "x")]) == 2
+    assert "needs a base case with a [shock] section" in capsys.readouterr().err
