@@ -18,7 +18,8 @@ from typing import Any
 from dsmc.errors import CaseError, UnknownNameError, nearest
 from dsmc.gas.kinetic import K_B
 from dsmc.gas.species import Species, get_species
-from dsmc.models import COLLISION_MODELS, WALL_MODELS
+from dsmc.gas.shock import shock_states
+from dsmc.models import BOUNDARY_KINDS, COLLISION_MODELS, OPEN_BOUNDARIES, WALL_MODELS
 
 SIDES_1D = ("xmin", "xmax")
 
@@ -44,12 +45,38 @@ class DomainSpec:
 
 @dataclass(frozen=True)
 class WallSpec:
+    """A side of the slab: a wall (``WALL_MODELS``) or an open boundary (``OPEN_BOUNDARIES``).
+
+    For an open side ``temperature``, ``velocity`` and ``number_density`` are
+    the reservoir state (``velocity`` may then have an x component);
+    ``drift`` is ``"local"`` or ``"none"`` for a pressure boundary.
+    """
+
     model: str
     temperature: float  # K
-    velocity: tuple[float, float, float]  # m/s, tangential (x component zero)
+    velocity: tuple[float, float, float]  # m/s, tangential (x component zero) for walls
     accommodation: float = 1.0
     normal_accommodation: float = 1.0
     tangential_accommodation: float = 1.0
+    number_density: float = 0.0  # 1/m^3, reservoir of an open side
+    drift: str = ""
+
+    @property
+    def is_open(self) -> bool:
+        return self.model in OPEN_BOUNDARIES
+
+    @property
+    def injects(self) -> bool:
+        return self.is_open and OPEN_BOUNDARIES[self.model].injects
+
+
+@dataclass(frozen=True)
+class ShockSpec:
+    """A normal shock between Rankine-Hugoniot states (``[shock]``)."""
+
+    mach: float
+    position: float = 0.5  # fraction of the domain length where the shock is held
+    recentre_interval: int = 20  # steps between re-centring shifts; 0 = none
 
 
 @dataclass(frozen=True)
@@ -92,6 +119,7 @@ class Case:
     initial: InitialSpec = field(default_factory=InitialSpec)
     numerics: NumericsSpec = field(default_factory=NumericsSpec)
     run: RunSpec = field(default_factory=RunSpec)
+    shock: ShockSpec | None = None
 
     def with_run(self, **changes) -> "Case":
         """A copy with some ``[run]`` values replaced (e.g. a seed from the CLI)."""
@@ -237,7 +265,7 @@ def _short(value) -> str:
 # ----------------------------------------------------------------------------
 # sections
 
-_TOP_KEYS = ("title", "gas", "domain", "boundary", "initial", "numerics", "run")
+_TOP_KEYS = ("title", "gas", "domain", "boundary", "shock", "initial", "numerics", "run")
 
 
 def _read_gas(t: _Table) -> GasSpec:
@@ -272,12 +300,19 @@ def _read_domain(t: _Table) -> DomainSpec:
     return DomainSpec(length, cells)
 
 
+def _key_owners(name: str) -> list[str]:
+    return ([m for m, w in WALL_MODELS.items() if name in w.keys]
+            + [m for m, b in OPEN_BOUNDARIES.items() if name in b.state_keys])
+
+
 def _read_wall(t: _Table, gas: GasSpec) -> WallSpec:
-    model = t.choice("model", WALL_MODELS, required=True)
+    model = t.choice("model", BOUNDARY_KINDS, required=True)
+    if model in OPEN_BOUNDARIES:
+        return _read_open(t, gas, model)
     spec = WALL_MODELS[model]
     allowed = {"model", "temperature", "velocity", *spec.keys}
     for name in t.data:  # a key of another wall model: say whose it is
-        owners = [m for m, w in WALL_MODELS.items() if name in w.keys]
+        owners = _key_owners(name)
         if name not in allowed and owners:
             t.fail(f"only used by model '{owners[0]}' (this wall is '{model}')", name)
     if model == "periodic":
@@ -291,6 +326,64 @@ def _read_wall(t: _Table, gas: GasSpec) -> WallSpec:
     extra = {k: t.number(k, 1.0, minimum=0.0, maximum=1.0) for k in spec.keys}
     t.finish()
     return WallSpec(model, temperature, velocity, **extra)
+
+
+def _read_open(t: _Table, gas: GasSpec, model: str) -> WallSpec:
+    """An open side; the reservoir state defaults to the ``[gas]`` state."""
+    spec = OPEN_BOUNDARIES[model]
+    allowed = {"model", *spec.state_keys}
+    for name in t.data:
+        owners = _key_owners(name)
+        if name not in allowed and owners:
+            t.fail(f"only used by model '{owners[0]}' (this side is '{model}')", name)
+    if not spec.injects:
+        t.finish(allowed={"model"})
+        return WallSpec(model, gas.temperature, (0.0, 0.0, 0.0))
+    temperature = t.number("temperature", gas.temperature, positive=True, maximum=1e5, unit="K")
+    if t.has("pressure") and t.has("number_density"):
+        t.fail("give at most one of 'pressure' (Pa) and 'number_density' (1/m^3)")
+    if t.has("pressure"):
+        n = t.number("pressure", positive=True, maximum=1e9, unit="Pa") / (K_B * temperature)
+    elif t.has("number_density"):
+        n = t.number("number_density", positive=True, maximum=1e30, unit="1/m^3")
+    else:
+        n = gas.number_density
+    drift = ""
+    if spec.drift_from_gas:
+        drift = t.choice("drift", ("local", "none"), "local")
+        velocity = (0.0, 0.0, 0.0)
+    else:
+        velocity = t.vector3("velocity", gas.velocity, unit="m/s")
+    t.finish()
+    return WallSpec(model, temperature, velocity, number_density=n, drift=drift)
+
+
+def _read_shock(t: _Table | None) -> ShockSpec | None:
+    if t is None:
+        return None
+    mach = t.number("mach", required=True, maximum=50.0)
+    if not mach > 1.0:
+        t.fail(f"a normal shock needs a Mach number above 1, got {mach:g}", "mach")
+    d = ShockSpec(mach)
+    spec = ShockSpec(mach,
+                     position=t.number("position", d.position, minimum=0.1, maximum=0.9),
+                     recentre_interval=t.integer("recentre_interval", d.recentre_interval,
+                                                 minimum=0, maximum=10**9))
+    t.finish()
+    return spec
+
+
+def _shock_walls(top: _Table, gas: GasSpec, shock: ShockSpec) -> tuple[WallSpec, WallSpec]:
+    """Inflow sides at the Rankine-Hugoniot upstream (xmin) and downstream (xmax) states."""
+    if top.has("boundary"):
+        top.fail("the sides of a [shock] case are the Rankine-Hugoniot inflow states: "
+                 "leave [boundary] out", "boundary")
+    if any(c != 0.0 for c in gas.velocity):
+        top.fail("the upstream drift of a [shock] case follows from its Mach number: "
+                 "leave gas.velocity out", "gas")
+    st = shock_states(shock.mach, gas.number_density, gas.temperature, gas.species.mass)
+    return (WallSpec("inflow", st.T1, (st.u1, 0.0, 0.0), number_density=st.n1),
+            WallSpec("inflow", st.T2, (st.u2, 0.0, 0.0), number_density=st.n2))
 
 
 def _read_walls(top: _Table, gas: GasSpec) -> tuple[WallSpec, WallSpec]:
@@ -386,12 +479,13 @@ def parse_case(text: str, path: str = "<case>") -> Case:
     title = top.text("title", Path(path).stem)
     gas = _read_gas(top.table("gas", required=True))
     domain = _read_domain(top.table("domain", required=True))
-    walls = _read_walls(top, gas)
+    shock = _read_shock(top.table("shock"))
+    walls = _read_walls(top, gas) if shock is None else _shock_walls(top, gas, shock)
     initial = _read_initial(top.table("initial"))
     numerics = _read_numerics(top.table("numerics"))
     run = _read_run(top.table("run"))
     top.finish()
-    return Case(path, text, title, gas, domain, walls, initial, numerics, run)
+    return Case(path, text, title, gas, domain, walls, initial, numerics, run, shock)
 
 
 def load_case(path: str | Path) -> Case:

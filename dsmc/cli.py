@@ -66,12 +66,25 @@ def cmd_run(args) -> int:
               f"M particle-steps/s); sampling from step {sim.transient_end_step}, "
               f"stopped by {sim.stop_reason}")
         _print_adequacy(figures, adequacy_warnings(figures))
-        for side, w in zip(("xmin", "xmax"), sim.wall_fields()):
+        for side, w, fl in zip(("xmin", "xmax"), sim.wall_fields(), sim.open_side_fluxes()):
+            if fl is not None:
+                fin, fin_se = fl["inflow_number_flux"]
+                fout, fout_se = fl["outflow_number_flux"]
+                print(f"open side {side}: molecules entering {fin:.5g} +- {fin_se:.2g}, leaving "
+                      f"{fout:.5g} +- {fout_se:.2g} 1/(m^2 s)")
+                continue
             tau, tau_se = w["shear_stress"]
             q, q_se = w["heat_flux"]
             p, p_se = w["pressure"]
             print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_y {tau[1]:.5g} +- "
                   f"{tau_se[1]:.2g} Pa, heat flux into wall {q:.5g} +- {q_se:.2g} W/m^2")
+        if sim.shock is not None:
+            s = sim.shock_profile()
+            v, v_se = s["inverse_density_thickness"]
+            print(f"shock M {sim.shock.mach1:g}: density thickness {s['thickness'][0]:.4g} +- "
+                  f"{s['thickness'][1]:.2g} m, lambda1/delta {v:.4f} +- {v_se:.4f} "
+                  f"(lambda1 {s['mean_free_path_upstream']:.4g} m), steepest slope at "
+                  f"x = {s['x_shock']:.4g} m")
         print(f"wrote {out}")
 
     status, _ = run_case(case, out, seed=args.seed, threads=args.threads, force=args.force,
@@ -145,6 +158,20 @@ def _float_list(text: str, option: str) -> list[float]:
 def cmd_sweep(args) -> int:
     from dsmc.parallel import format_rows, format_verdict, run_sweep
 
+    if args.machs:
+        from dsmc.parallel import format_mach_rows, run_mach_sweep
+
+        res = run_mach_sweep(args.base, _float_list(args.machs, "--machs"), jobs=args.jobs,
+                             out_dir=args.out, force=args.force,
+                             log=(lambda *a: None) if args.quiet else print)
+        if res.get("rank", 0) not in (None, 0):
+            return 0
+        print(format_mach_rows(res["rows"]))
+        for p in (*res["summary"], *res["plots"]):
+            print(f"wrote {p}")
+        print(f"Mach sweep of {len(res['rows'])} points done in {res['elapsed']:.1f} s "
+              f"with {args.jobs} jobs")
+        return 0
     pressures = _float_list(args.pressures, "--pressures") if args.pressures else None
     gaps = _float_list(args.gaps, "--gaps") if args.gaps else None
     res = run_sweep(args.base, pressures=pressures, gaps=gaps, jobs=args.jobs, out_dir=args.out,
@@ -218,15 +245,21 @@ def build_parser() -> argparse.ArgumentParser:
     cp.set_defaults(func=cmd_compare)
 
     sw = sub.add_parser("sweep", help="run a base case over pressures or gaps and judge the "
-                        "slip model", description="Build one case per pressure or gap from a base "
+                        "slip model, or a shock case over Mach numbers",
+                        description="Build one case per pressure or gap from a base "
                         "case (cells kept below lambda/3, particles per cell kept), run them in "
                         "parallel, write one HDF5 per point, a summary (CSV, HDF5), a plot of "
                         "tau/tau_FM and q/q_FM against Kn, and print where the slip model departs "
-                        "from DSMC by more than the tolerance.")
+                        "from DSMC by more than the tolerance. With --machs and a [shock] base "
+                        "case: one run per Mach number, a summary and a plot of the inverse "
+                        "density thickness lambda1/delta against M.")
     sw.add_argument("base", help="base case file (TOML)")
     grp = sw.add_mutually_exclusive_group(required=True)
     grp.add_argument("--pressures", metavar="P1,P2,...", help="gas pressures, Pa")
     grp.add_argument("--gaps", metavar="L1,L2,...", help="gap widths, m")
+    grp.add_argument("--machs", metavar="M1,M2,...",
+                     help="upstream Mach numbers of a [shock] base case: one run each, summary "
+                          "and plot of the inverse density thickness")
     sw.add_argument("--jobs", type=int, default=2, help="parallel processes (default 2)")
     sw.add_argument("--out", default=".", metavar="DIR", help="output directory (default .)")
     sw.add_argument("--tolerance", type=float, default=0.05,

@@ -5,6 +5,9 @@
 * Wall models (``specular``, ``diffuse``, ``maxwell``, ``cll``, ``periodic``):
   the kernel code, the case-file keys each needs, and how a wall row
   (:mod:`dsmc.kernels.surfaces` columns) is built from them.
+* Open boundaries (``inflow``, ``outflow``, ``pressure``): sides through which
+  molecules leave (kernel code ``OPEN``: removed by the move kernel) and,
+  for the reservoir kinds, enter (:mod:`dsmc.kernels.inject`).
 
 Adding a model touches its kernel branch and one entry here.
 """
@@ -63,4 +66,36 @@ def wall_row(model: str, temperature: float, velocity, accommodation: float = 1.
     row[ks.W_ALPHA] = accommodation
     row[ks.W_ALPHA_N] = normal_accommodation
     row[ks.W_ALPHA_T] = tangential_accommodation
+    return row
+
+
+@dataclass(frozen=True)
+class OpenBoundary:
+    name: str
+    description: str
+    injects: bool  # molecules enter from a reservoir Maxwellian
+    state_keys: tuple[str, ...]  # case keys of the reservoir state
+    drift_from_gas: bool  # reservoir drift taken from the adjacent cell (else given or zero)
+
+
+OPEN_BOUNDARIES = {
+    "inflow": OpenBoundary("inflow", "freestream reservoir (n, T, drift): injects its one-sided "
+                           "Maxwellian flux; molecules reaching the side leave", True,
+                           ("temperature", "pressure", "number_density", "velocity"), False),
+    "outflow": OpenBoundary("outflow", "vacuum: molecules reaching the side leave, none enter",
+                            False, (), False),
+    "pressure": OpenBoundary("pressure", "reservoir at (p, T) drifting with the gas of the "
+                             "adjacent cell (or at rest); molecules reaching the side leave", True,
+                             ("temperature", "pressure", "number_density", "drift"), True),
+}
+
+BOUNDARY_KINDS = (*WALL_MODELS, *OPEN_BOUNDARIES)
+
+
+def open_row(temperature: float, velocity) -> np.ndarray:
+    """The kernel's wall row of an open side (code ``OPEN``; the state is informative)."""
+    row = np.zeros(ks.W_NCOL)
+    row[ks.W_MODEL] = ks.OPEN
+    row[ks.W_T] = temperature
+    row[ks.W_UX:ks.W_UZ + 1] = velocity
     return row

@@ -396,17 +396,55 @@ def plot_sweep(rows: list[SweepRow], base_text: str, points, out_dir: Path, stem
 
 # -------------------------------------------------------------------- driver
 
+def _read_base(base_path: Path) -> str:
+    try:
+        return base_path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise UserError(f"{base_path}: no such case file") from None
+    except (OSError, UnicodeDecodeError) as err:
+        raise UserError(f"{base_path}: cannot read: {err}") from None
+
+
+def _run_points(texts, labels, outs, order, jobs, force, log):
+    """Run case texts to result files: under mpiexec dealt to the ranks, else in a process pool.
+
+    ``order`` lists the point indices, most expensive first.  Returns the
+    per-point timings (on every rank) and the MPI rank (None without MPI).
+    """
+    from dsmc.runner import mpi_comm
+
+    timings = [None] * len(texts)
+    comm = mpi_comm()
+    if comm is not None:
+        # under mpiexec: the points are dealt to the ranks (most expensive first, round
+        # robin), each rank runs its own with one thread, and rank 0 summarizes
+        rank, size = comm.Get_rank(), comm.Get_size()
+        mine = {}
+        for i in order[rank::size]:
+            mine[i] = run_point(texts[i], labels[i], outs[i], None, force)
+            log(f"rank {rank}: point {i} done in {mine[i]['wall_time']:.1f} s -> {outs[i]}")
+        for part in comm.allgather(mine):
+            for i, tm in part.items():
+                timings[i] = tm
+        return timings, rank
+    # spawn, not fork: a forked child of a process whose numba threads are running can hang
+    ctx = multiprocessing.get_context("spawn")
+    with ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_init_worker) as pool:
+        futs = {pool.submit(run_point, texts[i], labels[i], outs[i], None, force): i
+                for i in order}
+        for fut in futs:
+            i = futs[fut]
+            timings[i] = fut.result()
+            log(f"point {i} done in {timings[i]['wall_time']:.1f} s -> {outs[i]}")
+    return timings, None
+
+
 def run_sweep(base_path, pressures=None, gaps=None, jobs: int = 2, out_dir=".",
               tolerance: float = TOLERANCE, force: bool = False, slip_model="hard_sphere",
               min_cells: int = 20, max_cells: int = 2000, log=print) -> dict:
     """Build, run (in parallel), summarize, plot and judge a sweep; return the pieces."""
     base_path = Path(base_path)
-    try:
-        base_text = base_path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise UserError(f"{base_path}: no such case file") from None
-    except (OSError, UnicodeDecodeError) as err:
-        raise UserError(f"{base_path}: cannot read: {err}") from None
+    base_text = _read_base(base_path)
     if not 0.0 < tolerance < 1.0:
         raise UserError(f"--tolerance must lie between 0 and 1, got {tolerance}")
     if jobs < 1:
@@ -427,36 +465,11 @@ def run_sweep(base_path, pressures=None, gaps=None, jobs: int = 2, out_dir=".",
     t0 = time.perf_counter()
     # the most expensive (most cells) first, so the pool ends evenly
     order = sorted(range(len(points)), key=lambda i: -points[i].cells)
-    timings = [None] * len(points)
-    from dsmc.runner import mpi_comm
-
-    comm = mpi_comm()
-    if comm is not None:
-        # under mpiexec: the points are dealt to the ranks (most expensive first, round
-        # robin), each rank runs its own with one thread, and rank 0 summarizes
-        rank, size = comm.Get_rank(), comm.Get_size()
-        mine = {}
-        for i in order[rank::size]:
-            mine[i] = run_point(points[i].text, f"{base_path}[{points[i].label}]", outs[i],
-                                None, force)
-            log(f"rank {rank}: point {i} done in {mine[i]['wall_time']:.1f} s -> {outs[i]}")
-        for part in comm.allgather(mine):
-            for i, t in part.items():
-                timings[i] = t
-        if rank != 0:
-            return {"points": points, "rows": [], "files": outs, "summary": (), "plots": [],
-                    "verdict": None, "elapsed": time.perf_counter() - t0, "rank": rank}
-    else:
-        # spawn, not fork: a forked child of a process whose numba threads are running can hang
-        ctx = multiprocessing.get_context("spawn")
-        with ProcessPoolExecutor(max_workers=jobs, mp_context=ctx,
-                                 initializer=_init_worker) as pool:
-            futs = {pool.submit(run_point, points[i].text, f"{base_path}[{points[i].label}]",
-                                outs[i], None, force): i for i in order}
-            for fut in futs:
-                i = futs[fut]
-                timings[i] = fut.result()
-                log(f"point {i} done in {timings[i]['wall_time']:.1f} s -> {outs[i]}")
+    labels = [f"{base_path}[{pt.label}]" for pt in points]
+    timings, rank = _run_points([pt.text for pt in points], labels, outs, order, jobs, force, log)
+    if rank not in (None, 0):
+        return {"points": points, "rows": [], "files": outs, "summary": (), "plots": [],
+                "verdict": None, "elapsed": time.perf_counter() - t0, "rank": rank}
     elapsed = time.perf_counter() - t0
     rows = summarize(outs, points, timings, slip_model)
     csv_path, h5_path = write_summary(rows, out_dir, stem, force)
@@ -478,4 +491,131 @@ def format_rows(rows: list[SweepRow]) -> str:
                    f"{r.tau_no_slip:11.5g} {r.tau_slip:11.5g} {r.tau_fm:11.5g} {r.q:11.5g} "
                    f"{r.q_se:8.2g} {r.q_no_slip:11.5g} {r.q_slip:11.5g} {r.q_fm:11.5g} "
                    f"{r.wall_time:7.1f}")
+    return "\n".join(out)
+
+
+# ---------------------------------------------------------------- Mach sweep
+
+def mach_sweep_cases(base_text: str, base_path: str, machs) -> list[tuple[str, str]]:
+    """``(label, case text)`` per Mach number, from a base case with a ``[shock]`` section.
+
+    Only ``[shock] mach`` changes; an explicit ``[numerics] time_step`` is
+    dropped (the automatic step follows the faster, hotter flow).  Length and
+    cells are kept: the base must hold the weakest shock of the sweep (about
+    7 lambda1 thick at Mach 1.5) with uniform gas on both sides.
+    """
+    from dsmc.case import parse_case
+
+    values = sorted(float(m) for m in machs)
+    if not values or any(not (m > 1.0 and math.isfinite(m)) for m in values):
+        raise UserError("--machs: Mach numbers must be above 1")
+    base = parse_case(base_text, base_path)
+    if base.shock is None:
+        raise UserError(f"{base_path}: --machs needs a base case with a [shock] section")
+    out = []
+    for i, m in enumerate(values):
+        d = tomllib.loads(base_text)
+        d["shock"]["mach"] = m
+        d.get("numerics", {}).pop("time_step", None)
+        label = f"M={m:.6g}"
+        d["title"] = f"{base.title} [{label}]"
+        text = (f"# sweep point {i} of {base_path}: {label} (written by dsmc sweep)\n"
+                + dump_toml(d) + "\n")
+        parse_case(text, f"{base_path}[{label}]")  # validate
+        out.append((label, text))
+    return out
+
+
+MACH_COLUMNS = ("mach", "inverse_density_thickness", "inverse_density_thickness_stderr",
+                "thickness", "thickness_stderr", "mean_free_path_upstream", "wall_time")
+MACH_UNITS = ("1", "1", "1", "m", "m", "m", "s")
+
+
+def run_mach_sweep(base_path, machs, jobs: int = 2, out_dir=".", force: bool = False,
+                   log=print) -> dict:
+    """Run a ``[shock]`` base case at each Mach number; summary of the shock thickness.
+
+    Writes ``STEM-NN.h5`` per point, ``STEM-mach-summary.csv``/``.h5`` (columns
+    ``MACH_COLUMNS``) and ``STEM-mach-sweep.png``: lambda1/delta against M with
+    jackknife error bars.
+    """
+    import h5py
+
+    from dsmc.io.results import Data, write_results
+
+    base_path = Path(base_path)
+    base_text = _read_base(base_path)
+    if jobs < 1:
+        raise UserError(f"--jobs must be at least 1, got {jobs}")
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    stem = base_path.stem
+    points = mach_sweep_cases(base_text, str(base_path), machs)
+    outs = [str(out_dir / f"{stem}-{i:02d}.h5") for i in range(len(points))]
+    csv_path = out_dir / f"{stem}-mach-summary.csv"
+    if not force:
+        for o in outs + [str(csv_path)]:
+            if Path(o).exists():
+                raise UserError(f"{o}: exists already (use --force to replace it)")
+    for i, (label, _) in enumerate(points):
+        log(f"point {i}: {label}")
+    t0 = time.perf_counter()
+    order = list(range(len(points)))[::-1]  # strongest shocks (most steps per flow time) first
+    timings, rank = _run_points([tx for _, tx in points],
+                                [f"{base_path}[{lb}]" for lb, _ in points], outs, order, jobs,
+                                force, log)
+    elapsed = time.perf_counter() - t0
+    if rank not in (None, 0):
+        return {"rows": [], "files": outs, "elapsed": elapsed, "rank": rank}
+    rows = []
+    for path, tm in zip(outs, timings):
+        with h5py.File(path, "r") as f:
+            s = f["shock"]
+            rows.append({c: float(s[c][()]) for c in MACH_COLUMNS if c != "wall_time"}
+                        | {"wall_time": float(tm["wall_time"]), "path": path})
+    with open(csv_path, "w", newline="") as fh:
+        w = csv.writer(fh)
+        w.writerow([f"{c} [{u}]" for c, u in zip(MACH_COLUMNS, MACH_UNITS)] + ["result_file"])
+        for r in rows:
+            w.writerow([repr(r[c]) for c in MACH_COLUMNS] + [r["path"]])
+    tree = {"@attrs": {"description": "Mach sweep summary: max-slope density thickness of the "
+                                      "shock, jackknife errors; lambda1 = (16/5) mu1 / (rho1 "
+                                      "sqrt(2 pi k T1/m))"},
+            "sweep": {c: Data(np.array([r[c] for r in rows]), u)
+                      for c, u in zip(MACH_COLUMNS, MACH_UNITS)}}
+    tree["sweep"]["result_file"] = Data(np.array([r["path"] for r in rows], dtype=object), "1")
+    h5_path = write_results(out_dir / f"{stem}-mach-summary.h5", tree, overwrite=force)
+    plot = _plot_mach_sweep(rows, out_dir / f"{stem}-mach-sweep.png",
+                            tomllib.loads(base_text).get("title", stem))
+    return {"rows": rows, "files": outs, "summary": (csv_path, h5_path), "plots": [plot],
+            "elapsed": elapsed}
+
+
+def _plot_mach_sweep(rows, path: Path, title: str) -> Path:
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    fig, ax = plt.subplots(figsize=(6.0, 4.4), dpi=120)
+    ax.errorbar([r["mach"] for r in rows], [r["inverse_density_thickness"] for r in rows],
+                yerr=[r["inverse_density_thickness_stderr"] for r in rows], fmt="o-", capsize=3,
+                color="k", label="DSMC (±1 jackknife standard error)")
+    ax.set_xlabel("upstream Mach number M (1)")
+    ax.set_ylabel(r"inverse density thickness $\lambda_1/\delta$ (1)")
+    ax.set_ylim(bottom=0.0)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=8)
+    ax.set_title(f"{title}: Mach sweep", fontsize=10)
+    fig.tight_layout()
+    fig.savefig(path)
+    plt.close(fig)
+    return path
+
+
+def format_mach_rows(rows) -> str:
+    out = [f"{'M':>6s} {'lambda1/delta':>14s} {'+-':>8s} {'delta m':>11s} {'+-':>9s} {'time s':>7s}"]
+    for r in rows:
+        out.append(f"{r['mach']:6.3g} {r['inverse_density_thickness']:14.4f} "
+                   f"{r['inverse_density_thickness_stderr']:8.4f} {r['thickness']:11.4g} "
+                   f"{r['thickness_stderr']:9.2g} {r['wall_time']:7.1f}")
     return "\n".join(out)

@@ -42,16 +42,19 @@ from dsmc import stats
 from dsmc.case import Case
 from dsmc.gas import kinetic
 from dsmc.grid import UNIT_AREA, Grid1D
+from dsmc.gas.shock import shock_states
 from dsmc.kernels.collide import N_COLL_STATS, collide_ntc
+from dsmc.kernels.inject import N_INJECT_ACC, fill_slab_1d, inject_1d, number_flux
 from dsmc.kernels.move import N_WALL_ACC, move_1d, n_blocks
-from dsmc.kernels.rng import fill_cells_1d, new_streams
+from dsmc.kernels.rng import fill_cells_1d, fill_uniform, new_streams
 from dsmc.kernels.sample import N_MOMENTS, sample_cells
 from dsmc.kernels.sort import SORT_CHUNKS, keys_1d
-from dsmc.models import COLLISION_MODELS, wall_row
+from dsmc.models import COLLISION_MODELS, open_row, wall_row
 from dsmc.particles import Particles
 from dsmc.steady import relative_errors, steady, target_reached
 
 BLOCK_SIZE = 4096  # particles per random stream in the move kernel
+RELAX_STEPS = 500.0  # steps over which a 'pressure' side's reservoir drift follows the gas
 WALL_NORMALS = (np.array([1.0, 0.0]), np.array([-1.0, 0.0]))  # into the gas at xmin, xmax
 
 
@@ -60,6 +63,7 @@ class _Batch:
     moments: np.ndarray  # (cells, species, 13)
     walls: np.ndarray  # (2, 5)
     collisions: np.ndarray  # (cells, 2)
+    inflow: np.ndarray  # (2, 5): count, momentum, energy of the molecules injected per side
     samples: int = 0
     steps: int = 0
 
@@ -81,9 +85,13 @@ class Simulation:
         n_target = case.numerics.particles_per_cell * self.grid.cells
         self.weight = 0.0  # real molecules per particle, set by _initialise
         self.pair_c, self.pair_exp, self.pair_alpha = self._pair_tables()
-        self.walls = np.array([wall_row(w.model, w.temperature, w.velocity, w.accommodation,
+        self.walls = np.array([open_row(w.temperature, w.velocity) if w.is_open else
+                               wall_row(w.model, w.temperature, w.velocity, w.accommodation,
                                         w.normal_accommodation, w.tangential_accommodation)
                                for w in case.walls])
+        self.open_sides = any(w.is_open for w in case.walls)
+        self.shock = (shock_states(case.shock.mach, gas.number_density, gas.temperature,
+                                   gas.species.mass) if case.shock is not None else None)
         self.dt = case.numerics.time_step or self.auto_time_step()
 
         root = np.random.SeedSequence(self.seed, spawn_key=() if replica is None else (replica,))
@@ -91,14 +99,30 @@ class Simulation:
         self.init_state = new_streams(init_seq, 1)
         self.move_state = new_streams(move_seq, n_blocks(int(1.2 * n_target) + 1, BLOCK_SIZE))
         self.coll_state = new_streams(coll_seq, self.grid.cells)
+        # one stream per side for injection and re-centring fills (serial, so thread-independent)
+        key = () if replica is None else (replica,)
+        self.inject_state = new_streams(np.random.SeedSequence(self.seed, spawn_key=key + (4,)), 2)
+        self.inject_remainder = np.zeros(2)
+        self._inject_acc = np.zeros((2, 2, N_INJECT_ACC))
+        self.lost_particles = 0  # injected molecules whose partial flight left the domain
+        # reservoir drift of 'pressure' sides with drift = "local": relaxed cell mean velocity
+        self.local_drift = np.zeros((2, 3))
+        self._shock_sum = 0.0  # particle count summed over the current re-centring window
+        self._shock_steps = 0
+        self.shock_shift = 0.0  # total re-centring shift, m
+        self.shock_shifts = 0
 
         nc = self.grid.cells
         self.sgmax = np.empty(nc)
         self.remainder = np.zeros(nc)
-        self.cell_start = np.zeros(nc + 1, dtype=np.int64)
+        # sort starts: cells 0..nc-1, then the bin of removed particles (open sides)
+        self._key_start = np.zeros(nc + 2, dtype=np.int64)
+        self.cell_start = self._key_start[: nc + 1]
         self.particles = Particles(int(1.2 * n_target) + 16, dim=1)
-        self._hist = np.zeros((SORT_CHUNKS, nc), dtype=np.int32)  # per-chunk cell counts
+        # per-chunk counts of the sort keys: cells, then the removed-particle bin
+        self._hist = np.zeros((SORT_CHUNKS, nc + 1), dtype=np.int32)
         self._wall_acc = np.zeros((self.move_state.shape[0], 2, N_WALL_ACC))
+        self._acc_blocks = 0  # blocks the move kernel filled in the last step
         self._coll = np.zeros((nc, N_COLL_STATS))
         self.step_count = 0
         self.wall_time = 0.0
@@ -156,19 +180,37 @@ class Simulation:
 
         ``f_c`` (collision_time_fraction) and ``f_x`` (transit_fraction) come
         from ``[numerics]``; keeping the step a fraction of the mean collision
-        time and of the cell transit time is common practice.
+        time and of the cell transit time is common practice.  A reservoir of
+        an open side also enters: ``tau_c`` is the smallest of the gas and
+        reservoir collision times and the speed the largest ``c_mp + |u_x|``.
         """
         ref = self.reference_state()
         num = self.case.numerics
-        return min(num.collision_time_fraction * ref["mean_collision_time"],
-                   num.transit_fraction * self.grid.dx / ref["most_probable_speed"])
+        tau, speed = ref["mean_collision_time"], ref["most_probable_speed"]
+        for w in self.case.walls:
+            if w.injects:  # a reservoir may be denser and drift: its collision time and speed count
+                sp = self.case.gas.species
+                tau = min(tau, float(kinetic.mean_collision_time(sp, w.temperature,
+                                                                 w.number_density, self.model)))
+                speed = max(speed, float(kinetic.most_probable_speed(w.temperature, sp.mass))
+                            + abs(w.velocity[0]))
+        return min(num.collision_time_fraction * tau, num.transit_fraction * self.grid.dx / speed)
 
     def _initial_profiles(self):
         """Cell-centre temperature, drift and relative density of the initial gas."""
         case = self.case
         xc = self.grid.centers / self.grid.length
         nc = self.grid.cells
-        if case.initial.profile == "linear" and case.walls[0].model != "periodic":
+        if self.shock is not None:  # the Rankine-Hugoniot step at the shock position
+            st = self.shock
+            down = xc >= case.shock.position
+            T = np.where(down, st.T2, st.T1)
+            u = np.zeros((nc, 3))
+            u[:, 0] = np.where(down, st.u2, st.u1)
+            dens = np.where(down, st.n2, st.n1)
+            return T, u, dens / dens.mean()
+        if case.initial.profile == "linear" and case.walls[0].model not in ("periodic", "inflow",
+                                                                            "outflow", "pressure"):
             w0, w1 = case.walls
             T = w0.temperature + (w1.temperature - w0.temperature) * xc
             u = np.outer(1 - xc, w0.velocity) + np.outer(xc, w1.velocity)
@@ -190,7 +232,7 @@ class Simulation:
         np.cumsum(counts, out=start[1:])
         n = int(start[-1])
         # the weight makes the particles present carry exactly the case's gas amount
-        self.weight = self.case.gas.number_density * self.grid.length * UNIT_AREA / max(n, 1)
+        self.weight = self.initial_mean_density() * self.grid.length * UNIT_AREA / max(n, 1)
         self._reserve(n)
         p = self.particles
         p.n = n
@@ -203,6 +245,14 @@ class Simulation:
         self.sgmax[:] = self.pair_c[0, 0] * g_ref ** (2.0 * self.pair_exp[0, 0])
         self._sort()
 
+    def initial_mean_density(self) -> float:
+        """Mean number density of the initial gas, 1/m^3 (the RH step of a shock case)."""
+        if self.shock is None:
+            return self.case.gas.number_density
+        st, x_s = self.shock, self.case.shock.position
+        down = self.grid.centers / self.grid.length >= x_s
+        return float(np.mean(np.where(down, st.n2, st.n1)))
+
     def _reserve(self, n: int):
         p = self.particles
         if n > p.capacity:
@@ -213,7 +263,8 @@ class Simulation:
             key = () if self.replica is None else (self.replica,)
             seq = np.random.SeedSequence(self.seed, spawn_key=key + (3, self.move_state.shape[0]))
             self.move_state = np.concatenate([self.move_state, new_streams(seq, extra)])
-            self._wall_acc = np.zeros((nb_needed, 2, N_WALL_ACC))
+            # keep what the move kernel accumulated this step (injection reserves after the move)
+            self._wall_acc = np.concatenate([self._wall_acc, np.zeros((extra, 2, N_WALL_ACC))])
 
     # --------------------------------------------------------------- particles
 
@@ -251,11 +302,14 @@ class Simulation:
 
     def _sort(self, counted: bool = False):
         """Sort the particles into cell order; ``counted``: the move kernel has
-        already written their cell keys and the per-chunk histogram."""
+        already written their cell keys and the per-chunk histogram.  Removed
+        particles (``pos < 0``, key ``cells``) go to the extra last bin and are dropped."""
         p = self.particles
+        nc = self.grid.cells
         if not counted:
-            keys_1d(p.pos, p.n, self.grid.length, self.grid.cells, p.key)
-        p.sort(self.grid.cells, self._hist, self.cell_start, BLOCK_SIZE, counted)
+            keys_1d(p.pos, p.n, self.grid.length, nc, p.key)
+        p.sort(nc + 1, self._hist, self._key_start, BLOCK_SIZE, counted)
+        p.n = int(self._key_start[nc])
 
     def _move(self):
         p = self.particles
@@ -268,11 +322,116 @@ class Simulation:
                     self.sgmax, self.remainder, self.pair_c, self.pair_exp, self.pair_alpha,
                     self.mass, self.coll_state, 0, self._coll)
 
+    # ------------------------------------------------------------ open sides
+
+    def _reservoir(self, side: int) -> tuple[float, float, np.ndarray]:
+        """``(n, T, u)`` of the reservoir behind an injecting side."""
+        w = self.case.walls[side]
+        u = np.array(w.velocity, dtype=float)
+        if w.model == "pressure" and w.drift == "local":
+            u = self.local_drift[side].copy()
+        return w.number_density, w.temperature, u
+
+    def _update_local_drift(self):
+        """Relax the 'pressure' sides' reservoir drift toward the adjacent cell's mean velocity.
+
+        The cell mean of one step is noisy; the relaxation factor 1/RELAX_STEPS
+        averages it over about RELAX_STEPS steps (our choice).
+        """
+        nc = self.grid.cells
+        for side, cell in ((0, 0), (1, nc - 1)):
+            w = self.case.walls[side]
+            if w.model != "pressure" or w.drift != "local":
+                continue
+            a, b = self.cell_start[cell], self.cell_start[cell + 1]
+            if b > a:
+                mean = self.particles.v[a:b].mean(axis=0)
+                self.local_drift[side] += (mean - self.local_drift[side]) / RELAX_STEPS
+
+    def _inject(self):
+        """Append the molecules entering through the open sides this step (Bird 1994 eq. 4.22 flux,
+        :mod:`dsmc.kernels.inject`); the expected number's fraction is carried to the next step.
+        Returns how many were appended."""
+        p = self.particles
+        self._inject_acc[:] = 0.0
+        total = 0
+        for side, w in enumerate(self.case.walls):
+            if not w.injects:
+                continue
+            n_res, T_res, u = self._reservoir(side)
+            direction = 1.0 if side == 0 else -1.0
+            flux = number_flux(n_res, T_res, self.mass[0], direction * u[0])
+            expected = flux * UNIT_AREA * self.dt / self.weight + self.inject_remainder[side]
+            count = int(expected)
+            self.inject_remainder[side] = expected - count
+            if count == 0:
+                continue
+            self._reserve(p.n + count)
+            x0 = 0.0 if side == 0 else self.grid.length
+            inject_1d(p.pos, p.v, p.sp, p.n, count, x0, direction, self.grid.length, self.dt, u,
+                      T_res, self.mass[0], 0, self.inject_state, side, self._inject_acc[side])
+            p.n += count
+            total += count
+        self.lost_particles += int(self._inject_acc[:, 1, 0].sum())
+        return total
+
+    def _recentre(self):
+        """Keep a shock at its position by shifting all molecules (see :mod:`dsmc.gas.shock`).
+
+        Over each window of ``recentre_interval`` steps the mean particle
+        count ``N`` gives the integral shock position from the mass balance
+        ``N W / A = n1 x_s + n2 (L - x_s)``, i.e.
+        ``x_s = (n2 L - N W / A) / (n2 - n1)``.  All molecules are then moved by
+        ``d = x_target - x_s``; those pushed out of the slab are dropped and the
+        uncovered strip (``[0, d)`` or ``(L + d, L]``) is filled with molecules of
+        the adjacent Rankine-Hugoniot Maxwellian, so the uniform states beside
+        the boundaries are kept and the mass in the slab becomes the RH value.
+        """
+        if self.shock is None or self.case.shock.recentre_interval == 0:
+            return
+        interval = self.case.shock.recentre_interval
+        self._shock_sum += self.particles.n
+        self._shock_steps += 1
+        if self._shock_steps < interval:
+            return
+        st, L = self.shock, self.grid.length
+        mean_n = self._shock_sum / self._shock_steps
+        self._shock_sum, self._shock_steps = 0.0, 0
+        x_est = (st.n2 * L - mean_n * self.weight / UNIT_AREA) / (st.n2 - st.n1)
+        d = self.case.shock.position * L - x_est
+        if d == 0.0:
+            return
+        p = self.particles
+        x = p.pos[: p.n, 0]
+        x += d
+        x[(x < 0.0) | (x > L)] = -1.0
+        side = 0 if d > 0 else 1
+        n_res, T_res, u = (st.n1, st.T1, st.u1) if side == 0 else (st.n2, st.T2, st.u2)
+        lo, hi = (0.0, d) if side == 0 else (L + d, L)
+        expected = n_res * abs(d) * UNIT_AREA / self.weight
+        draw = np.empty(1)
+        fill_uniform(self.inject_state, side, draw)
+        count = int(expected + draw[0])  # unbiased random rounding
+        self._reserve(p.n + count)
+        fill_slab_1d(p.pos, p.v, p.sp, p.n, count, lo, hi, np.array([u, 0.0, 0.0]), T_res,
+                     self.mass[0], 0, self.inject_state, side)
+        p.n += count
+        self._sort()
+        self.shock_shift += d
+        self.shock_shifts += 1
+
+    # -------------------------------------------------------------------- loop
+
     def step(self, sample: bool = False):
         """One time step; with ``sample`` the wall fluxes and (on schedule) cell moments count."""
         p = self.particles
         self._move()
-        self._sort(counted=True)
+        self._acc_blocks = n_blocks(p.n, BLOCK_SIZE)
+        injected = self._inject() if self.open_sides else 0
+        # injected molecules have no cell key yet: then the keys are counted again
+        self._sort(counted=injected == 0)
+        if self.open_sides:
+            self._update_local_drift()
         take = False
         if sample:
             self._since_sample += 1
@@ -283,13 +442,17 @@ class Simulation:
         self.step_count += 1
         if sample:
             b = self._batch
-            b.walls += self._wall_acc[: n_blocks(p.n, BLOCK_SIZE)].sum(axis=0)
+            b.walls += self._wall_acc[: self._acc_blocks].sum(axis=0)
+            if self.open_sides:
+                b.inflow += self._inject_acc[:, 0, :]
             b.steps += 1
             if take:
                 if b.samples % 2 == 1:
                     sample_cells(p.v, p.sp, self.cell_start, b.moments)  # after collisions
                 b.samples += 1
                 self._since_sample = 0
+        if self.shock is not None:
+            self._recentre()
 
     def advance(self, steps: int, sample: bool = False, callback=None):
         """Run ``steps`` steps outside the case's schedule; ``callback(sim)`` after each."""
@@ -303,7 +466,7 @@ class Simulation:
     def _new_batch(self) -> _Batch:
         nc, ns = self.grid.cells, len(self.species)
         return _Batch(np.zeros((nc, ns, N_MOMENTS)), np.zeros((2, N_WALL_ACC)),
-                      np.zeros((nc, N_COLL_STATS)))
+                      np.zeros((nc, N_COLL_STATS)), np.zeros((2, N_INJECT_ACC)))
 
     def reset_samples(self, interval: int | None = None):
         """Discard samples; later sampled steps sample every ``interval`` steps."""
@@ -325,7 +488,7 @@ class Simulation:
     def _monitor_values(self) -> np.ndarray:
         """Per-step quantities watched for the steady state: wall hits, momentum
         (x, y) and energy per wall, and the gas kinetic energy."""
-        w = self._wall_acc[: n_blocks(self.particles.n, BLOCK_SIZE)].sum(axis=0)
+        w = self._wall_acc[: self._acc_blocks].sum(axis=0)
         ke = float(np.einsum("ij,ij->", self.velocities, self.velocities))
         return np.concatenate([w[:, [0, 1, 2, 4]].ravel(), [ke]])
 
@@ -363,6 +526,8 @@ class Simulation:
         if r.target_quantities:
             return r.target_quantities
         w0, w1 = self.case.walls
+        if w0.is_open or w1.is_open:  # reservoir states are not wall motions or temperatures
+            return ("bulk_temperature",)
         q = []
         if w0.velocity != w1.velocity:
             q.append("bulk_shear_stress")
@@ -426,9 +591,10 @@ class Simulation:
     # ------------------------------------------------------------ checkpoints
 
     _STATE_ARRAYS = ("move_state", "coll_state", "init_state", "sgmax", "remainder", "_coll",
-                     "_win_sum")
+                     "_win_sum", "inject_state", "inject_remainder", "local_drift")
     _STATE_SCALARS = ("step_count", "wall_time", "phase_steps", "transient_end_step",
-                      "_since_sample", "_interval", "_win_steps", "weight")
+                      "_since_sample", "_interval", "_win_steps", "weight", "lost_particles",
+                      "_shock_sum", "_shock_steps", "shock_shift", "shock_shifts")
 
     def state(self) -> dict:
         """Everything needed to continue this run bit-identically (plain arrays)."""
@@ -444,6 +610,7 @@ class Simulation:
             "batch_moments": np.stack([b.moments for b in batches]),
             "batch_walls": np.stack([b.walls for b in batches]),
             "batch_collisions": np.stack([b.collisions for b in batches]),
+            "batch_inflow": np.stack([b.inflow for b in batches]),
             "batch_samples": np.array([b.samples for b in batches]),
             "batch_steps": np.array([b.steps for b in batches]),
         }
@@ -470,9 +637,10 @@ class Simulation:
         self.steady_detected = bool(st["steady_detected"])
         self.windows = list(np.asarray(st["windows"]))
         self._target_history = list(np.asarray(st["targets"]))
-        batches = [_Batch(m.copy(), w.copy(), c.copy(), int(ns), int(nst)) for m, w, c, ns, nst in
+        batches = [_Batch(m.copy(), w.copy(), c.copy(), i.copy(), int(ns), int(nst))
+                   for m, w, c, i, ns, nst in
                    zip(st["batch_moments"], st["batch_walls"], st["batch_collisions"],
-                       st["batch_samples"], st["batch_steps"])]
+                       st["batch_inflow"], st["batch_samples"], st["batch_steps"])]
         self.batches, self._batch = batches[:-1], batches[-1]
         self._sort()
 
@@ -510,6 +678,52 @@ class Simulation:
             out.append({k: (total[k], stats.batch_error(np.stack([f[k] for f in per])))
                         for k in total})
         return out
+
+    def open_side_fluxes(self) -> list[dict[str, tuple[np.ndarray, np.ndarray]] | None]:
+        """Per side (xmin, xmax), for open sides: ``{outflow_NAME | inflow_NAME: (mean, stderr)}``
+        with NAME in ``number_flux``, ``momentum_flux``, ``energy_flux`` (:func:`stats.flux_fields`);
+        ``None`` for a wall."""
+        batches = self._closed_batches()
+        out = []
+        for w, spec in enumerate(self.case.walls):
+            if not spec.is_open:
+                out.append(None)
+                continue
+            d = {}
+            for kind, get in (("outflow", lambda b: b.walls[w]), ("inflow", lambda b: b.inflow[w])):
+                per = [stats.flux_fields(get(b), b.steps * self.dt, self.weight, UNIT_AREA)
+                       for b in batches]
+                total = stats.flux_fields(sum(get(b) for b in batches),
+                                          sum(b.steps for b in batches) * self.dt, self.weight,
+                                          UNIT_AREA)
+                for k in total:
+                    d[f"{kind}_{k}"] = (total[k], stats.batch_error(np.stack([f[k] for f in per])))
+            out.append(d)
+        return out
+
+    def shock_profile(self) -> dict:
+        """Shock-structure figures of a ``[shock]`` run (see :mod:`dsmc.gas.shock`).
+
+        ``thickness`` is the max-slope density thickness with its jackknife error,
+        ``inverse_density_thickness`` = lambda1/thickness with lambda1 from
+        :func:`dsmc.gas.shock.upstream_mean_free_path`, ``x_shock`` the position
+        of the steepest density slope (the origin of the shock-frame coordinate).
+        """
+        from dsmc.gas.shock import thickness_with_error, upstream_mean_free_path
+
+        st = self.shock
+        batches = self._closed_batches()
+        per = self.batch_fields()
+        dens = np.stack([f["number_density"] for f in per])
+        delta, err, x_peak = thickness_with_error(self.grid.centers, dens,
+                                                  np.array([b.samples for b in batches]),
+                                                  st.n1, st.n2)
+        sp = self.case.gas.species
+        lam1 = upstream_mean_free_path(float(kinetic.viscosity(sp, st.T1, self.model)), st.n1,
+                                       st.T1, sp.mass)
+        return {"states": st, "thickness": (delta, err), "x_shock": x_peak,
+                "mean_free_path_upstream": lam1,
+                "inverse_density_thickness": (lam1 / delta, lam1 * err / delta**2)}
 
     def collision_summary(self) -> dict[str, float]:
         """Measured collision rate per particle and mean collision separation."""
@@ -653,6 +867,8 @@ def result_tree(sim: Simulation) -> dict:
         "walls": {},
     }
     for side, w, spec, normal in zip(("xmin", "xmax"), walls, case.walls, WALL_NORMALS):
+        if spec.is_open:
+            continue  # written below with the fluxes through the side
         g = pair(stats.WALL_UNITS, w)
         g["@attrs"] = {"model": spec.model, "accommodation": spec.accommodation,
                        "normal_accommodation": spec.normal_accommodation,
@@ -661,4 +877,56 @@ def result_tree(sim: Simulation) -> dict:
         g["velocity"] = Data(np.asarray(spec.velocity), "m/s")
         g["normal"] = Data(np.array([normal[0], normal[1], 0.0]), "1")
         tree["walls"][side] = g
+    for side, spec, fl, normal in zip(("xmin", "xmax"), case.walls, sim.open_side_fluxes(),
+                                      WALL_NORMALS):
+        if fl is None:
+            continue
+        g = pair({k: stats.FLUX_UNITS[k.split("_", 1)[1]] for k in fl}, fl)
+        g["@attrs"] = {"model": spec.model, "open": 1, "drift": spec.drift}
+        g["temperature"] = Data(spec.temperature, "K")
+        g["velocity"] = Data(np.asarray(spec.velocity), "m/s")
+        g["number_density"] = Data(spec.number_density, "1/m^3")
+        g["normal"] = Data(np.array([normal[0], normal[1], 0.0]), "1")
+        if spec.model == "pressure":
+            g["final_drift"] = Data(sim.local_drift[0 if side == "xmin" else 1].copy(), "m/s")
+        tree["walls"][side] = g
+    tree["run"]["lost_particles"] = Data(sim.lost_particles, "1")
+    if sim.shock is not None:
+        tree["shock"] = shock_tree(sim, fields)
     return tree
+
+
+def shock_tree(sim: Simulation, fields) -> dict:
+    """The ``/shock`` group: Rankine-Hugoniot states, thickness, shock-frame profiles."""
+    from dsmc.io.results import Data
+
+    s = sim.shock_profile()
+    st = s["states"]
+    Tc, Tc_err = fields["temperature_components"]
+    return {
+        "@attrs": {"method": "steady shock between Rankine-Hugoniot inflow reservoirs, held at "
+                             "[shock] position by rigid re-centring shifts (integral mass balance)",
+                   "mean_free_path_definition": "(16/5) mu1 / (rho1 sqrt(2 pi k T1 / m)), mu1 of "
+                                                "the model gas"},
+        "mach": Data(st.mach1, "1"),
+        "mach_downstream": Data(st.mach2, "1"),
+        "upstream_number_density": Data(st.n1, "1/m^3"),
+        "upstream_temperature": Data(st.T1, "K"),
+        "upstream_velocity": Data(st.u1, "m/s"),
+        "downstream_number_density": Data(st.n2, "1/m^3"),
+        "downstream_temperature": Data(st.T2, "K"),
+        "downstream_velocity": Data(st.u2, "m/s"),
+        "mean_free_path_upstream": Data(s["mean_free_path_upstream"], "m"),
+        "thickness": Data(s["thickness"][0], "m"),
+        "thickness_stderr": Data(s["thickness"][1], "m"),
+        "inverse_density_thickness": Data(s["inverse_density_thickness"][0], "1"),
+        "inverse_density_thickness_stderr": Data(s["inverse_density_thickness"][1], "1"),
+        "x_shock": Data(s["x_shock"], "m"),
+        "x": Data(sim.grid.centers - s["x_shock"], "m"),
+        "normal_temperature": Data(Tc[:, 0], "K"),
+        "normal_temperature_stderr": Data(Tc_err[:, 0], "K"),
+        "parallel_temperature": Data(0.5 * (Tc[:, 1] + Tc[:, 2]), "K"),
+        "parallel_temperature_stderr": Data(0.5 * np.hypot(Tc_err[:, 1], Tc_err[:, 2]), "K"),
+        "recentring_shift": Data(sim.shock_shift, "m"),
+        "recentring_shifts": Data(sim.shock_shifts, "1"),
+    }

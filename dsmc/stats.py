@@ -127,6 +127,23 @@ def wall_fields(acc: np.ndarray, duration: float, weight: float, area: float,
     }
 
 
+FLUX_UNITS = {
+    "number_flux": "1/(m^2 s)",
+    "momentum_flux": "Pa",
+    "energy_flux": "W/m^2",
+}
+
+
+def flux_fields(acc: np.ndarray, duration: float, weight: float, area: float) -> dict[str, np.ndarray]:
+    """Number, momentum (3) and kinetic-energy fluxes per area and time of molecules crossing an
+    open side, from summed accumulators (..., 5): count, momentum m v (3), energy m |v|^2 / 2
+    (laboratory frame, signs of the velocities as they cross)."""
+    acc = np.asarray(acc, dtype=float)
+    f = weight / (area * duration)
+    return {"number_flux": acc[..., 0] * f, "momentum_flux": acc[..., 1:4] * f,
+            "energy_flux": acc[..., 4] * f}
+
+
 def batch_error(values: np.ndarray) -> np.ndarray:
     """Standard error of the mean of batch values (first axis = batches)."""
     values = np.asarray(values, dtype=float)

@@ -6,7 +6,10 @@ Runs the checks the test suite makes (equilibrium collision rate, free-molecular
 near-continuum gaps from the shipped cases) and prints each DSMC value with its standard error,
 the reference value and the relative deviation.  ``--long`` doubles the sampling of every run.
 References: Bird (1994) eq. 4.64 for the collision rate; the exact two-stream free-molecular
-solution and Navier-Stokes-Fourier with slip/jump of :mod:`dsmc.analysis.limits`.
+solution and Navier-Stokes-Fourier with slip/jump of :mod:`dsmc.analysis.limits`; for the argon
+normal shock the Rankine-Hugoniot states and the inverse density thickness measured by Alsmeyer
+(1976), values from memory (``tests/test_shock.py``), on finer cells and longer runs than the
+tests.
 """
 
 from __future__ import annotations
@@ -24,6 +27,7 @@ sys.path.insert(0, str(ROOT / "tests"))
 from conftest import bulk_mean  # noqa: E402
 from test_collisions import BOX, _temperature  # noqa: E402
 from test_gap_limits import FM_CASE, FM_SETS, _slip_solution  # noqa: E402
+from test_shock import ALSMEYER_FROM_MEMORY, shock_text  # noqa: E402
 
 from dsmc.analysis import limits  # noqa: E402
 from dsmc.case import load_case, parse_case  # noqa: E402
@@ -105,6 +109,26 @@ def fourier_kn001(scale, steps=1_200_000):
         v, se, ref.q_wall1)
 
 
+def shock_structure(scale):
+    for mach in sorted(ALSMEYER_FROM_MEMORY):
+        lengths = 60.0 if mach < 2 else 40.0
+        cells = int(8 * lengths)  # lambda1/8: below a third of the downstream mean free path
+        sim = Simulation(parse_case(shock_text(mach, lengths, cells, steps=6000 * scale, ppc=60)))
+        sim.run()
+        st = sim.shock
+        k = cells // 5
+        per = sim.batch_fields()
+        for name, cut, ref in (("n1", slice(0, k), st.n1), ("n2", slice(-k, None), st.n2),
+                               ("T2", slice(-k, None), st.T2)):
+            field = "number_density" if name[0] == "n" else "temperature"
+            vals = np.array([np.mean(f[field][cut]) for f in per])
+            row(f"shock M {mach:g}: {name} vs Rankine-Hugoniot", vals.mean(),
+                vals.std(ddof=1) / math.sqrt(vals.size), ref)
+        v, se = sim.shock_profile()["inverse_density_thickness"]
+        row(f"shock M {mach:g}: lambda1/delta vs Alsmeyer 1976 (from memory)", v, se,
+            ALSMEYER_FROM_MEMORY[mach])
+
+
 def main():
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--threads", type=int, default=None)
@@ -117,6 +141,7 @@ def main():
     free_molecular(scale)
     near_continuum(scale)
     fourier_kn001(scale)
+    shock_structure(scale)
 
 
 if __name__ == "__main__":

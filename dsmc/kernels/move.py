@@ -9,6 +9,11 @@ wall into ``acc[block, wall, :]``:
 
     0: hits   1..3: m (v_in - v_out)   4: m (|v_in|^2 - |v_out|^2) / 2
 
+An open side (model code ``OPEN``) removes the particle: it is counted as a
+hit with ``v_out = 0`` (so the accumulator holds the number, momentum and
+energy that left) and marked removed by ``pos[i, 0] = -1``; its cell key is
+the extra bin ``n_cells``, which the sort puts last and the caller drops.
+
 Particle ``i`` belongs to block ``i // block_size``, and block ``b`` draws its
 random numbers from stream ``b``: the result does not depend on how blocks are
 spread over threads.
@@ -20,7 +25,7 @@ import numba as nb
 import numpy as np
 
 from dsmc.kernels.sort import chunk_layout
-from dsmc.kernels.surfaces import PERIODIC, W_MODEL, reflect
+from dsmc.kernels.surfaces import OPEN, PERIODIC, W_MODEL, reflect
 
 N_WALL_ACC = 5
 # wall hits one particle may make in one step; reached only by absurd time steps, where the
@@ -42,16 +47,34 @@ def _hit(v, wall, nx, mass, state, b, acc_row):
     acc_row[4] += 0.5 * mass * (e_in - (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]))
 
 
+@nb.njit(inline="always")
+def _leave(v, mass, acc_row):
+    acc_row[0] += 1.0
+    acc_row[1] += mass * v[0]
+    acc_row[2] += mass * v[1]
+    acc_row[3] += mass * v[2]
+    acc_row[4] += 0.5 * mass * (v[0] * v[0] + v[1] * v[1] + v[2] * v[2])
+
+
 @nb.njit(cache=True)
 def _fly(pos, v, i, dt, length, walls, m, state, b, acc):
-    """Flight of particle ``i`` that crosses a wall during the step: hit by hit."""
+    """Flight of particle ``i`` that crosses a wall during the step: hit by hit.
+    Returns the final position, -1 when the particle left through an open side."""
     vi = v[i]
     xi = pos[i, 0]
     t = dt
     hits = 0
+    open0 = int(walls[0, W_MODEL]) == OPEN
+    open1 = int(walls[1, W_MODEL]) == OPEN
     while True:
         xn = xi + vi[0] * t
-        if xn < 0.0:
+        if xn < 0.0 and open0:
+            _leave(vi, m, acc[b, 0])
+            return -1.0
+        elif xn > length and open1:
+            _leave(vi, m, acc[b, 1])
+            return -1.0
+        elif xn < 0.0:
             t -= xi / (-vi[0])
             xi = 0.0
             _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0])
@@ -78,8 +101,9 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc, n_ce
     ``mass[sp[i]]`` is the molecular mass of particle ``i``.  ``acc`` has shape
     ``(n_blocks, 2, N_WALL_ACC)`` and is overwritten.
 
-    The new cell of each particle (``n_cells`` uniform cells) goes to
-    ``key[i]``, and ``hist`` receives the per-chunk key histogram of
+    The new cell of each particle (``n_cells`` uniform cells; ``n_cells`` for
+    a removed one) goes to ``key[i]``, and ``hist`` (``n_cells + 1`` columns)
+    receives the per-chunk key histogram of
     :func:`dsmc.kernels.sort.histogram`, so that the sort only has to scatter.
     Particles are moved chunk by chunk (chunks are runs of whole blocks, one
     thread each), so the histogram rows need no locking.
@@ -89,7 +113,7 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc, n_ce
     scale = n_cells / length
     for ch in nb.prange(n_chunks):
         row = hist[ch]
-        for k in range(n_cells):
+        for k in range(n_cells + 1):
             row[k] = 0
         c_lo = ch * size
         c_hi = min(n, c_lo + size)
@@ -104,11 +128,10 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc, n_ce
                 elif x < 0.0 or x > length:
                     x = _fly(pos, v, i, dt, length, walls, mass[sp[i]], state, b, acc)
                 pos[i, 0] = x
-                k = int(x * scale)
-                if k >= n_cells:
-                    k = n_cells - 1
-                elif k < 0:
-                    k = 0
+                if x < 0.0:  # left through an open side
+                    k = n_cells
+                else:
+                    k = min(int(x * scale), n_cells - 1)
                 key[i] = k
                 row[k] += 1
 

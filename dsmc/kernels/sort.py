@@ -40,14 +40,21 @@ def chunk_layout(n, block_size):
 
 @nb.njit(parallel=True, cache=True)
 def keys_1d(pos, n, length, n_cells, key):
-    """Cell index of each particle of a uniform 1-D grid on [0, length]."""
+    """Cell index of each particle of a uniform 1-D grid on [0, length].
+
+    A removed particle (``pos < 0``, set when it leaves through an open side)
+    gets the extra key ``n_cells``, so a sort over ``n_cells + 1`` keys puts
+    the removed particles last.
+    """
     scale = n_cells / length
     for i in nb.prange(n):
-        k = int(pos[i, 0] * scale)
+        x = pos[i, 0]
+        if x < 0.0:
+            key[i] = n_cells
+            continue
+        k = int(x * scale)
         if k >= n_cells:
             k = n_cells - 1
-        elif k < 0:
-            k = 0
         key[i] = k
 
 
