@@ -260,3 +260,190 @@ def gas_summary(sp: Species, T: float, p: float, length: float | None = None,
         out["length"] = (float(length), "m")
         out["Kn"] = (float(knudsen(mfp, length)), "")
     return out
+
+
+# --- Mixtures: unlike-pair parameters, collision rates, viscosity ------------
+
+def pair_parameters(a: Species, b: Species, model: str = "vhs"):
+    """``(m_r, d_ref, omega, alpha, T_ref)`` of the pair (a, b).
+
+    Combining rules of the VHS/VSS models (Bird 1994 sec. 4.3, eqs.
+    4.76-4.80, from memory): arithmetic means ``d_ab = (d_a + d_b)/2``,
+    ``omega_ab = (omega_a + omega_b)/2``, ``alpha_ab = (alpha_a + alpha_b)/2``,
+    with the reduced mass ``m_r = m_a m_b / (m_a + m_b)``.  The species table
+    has one T_ref (273 K) for all species; the pair takes their mean.  A like
+    pair gives the species' own values and ``m_r = m/2``.
+    """
+    da, wa, aa = a.parameters(model)
+    db, wb, ab = b.parameters(model)
+    m_r = a.mass * b.mass / (a.mass + b.mass)
+    return m_r, 0.5 * (da + db), 0.5 * (wa + wb), 0.5 * (aa + ab), 0.5 * (a.T_ref + b.T_ref)
+
+
+def viscosity_for(m, d_ref, omega, alpha, T_ref, T):
+    """Chapman-Enskog viscosity of a VSS gas of molecular mass ``m`` (see :func:`viscosity`)."""
+    mu_ref = (5.0 * (alpha + 1.0) * (alpha + 2.0) * math.sqrt(m * K_B * T_ref / math.pi)
+              / (4.0 * alpha * (5.0 - 2.0 * omega) * (7.0 - 2.0 * omega) * d_ref**2))
+    return mu_ref * (np.asarray(T, dtype=float) / T_ref) ** omega
+
+
+def pair_collision_rate(a: Species, b: Species, T, n_b, model: str = "vhs"):
+    """Collisions per second of one molecule of ``a`` with molecules of ``b`` (density n_b).
+
+    nu_ab = n_b <sigma_T g>_ab = 2 sqrt(pi) d_ab^2 n_b (T/T_ref)^(1-omega_ab)
+    sqrt(2 k T_ref / m_r) (Bird 1994 eq. 4.76, from memory), from the
+    Maxwellian average of :func:`total_cross_section` with the pair's reduced
+    mass; with ``m_r = m/2`` it is :func:`collision_rate`.
+    """
+    m_r, d, omega, _, T_ref = pair_parameters(a, b, model)
+    T = np.asarray(T, dtype=float)
+    return (2.0 * math.sqrt(math.pi) * d**2 * np.asarray(n_b, dtype=float)
+            * (T / T_ref) ** (1.0 - omega) * math.sqrt(2.0 * K_B * T_ref / m_r))
+
+
+def mixture_collision_rates(species, fractions, T, n, model: str = "vhs") -> np.ndarray:
+    """Collision rate of a molecule of each species in the mixture, 1/s (sum over partners)."""
+    return np.array([sum(float(pair_collision_rate(a, b, T, x * n, model))
+                         for b, x in zip(species, fractions)) for a in species])
+
+
+def mixture_viscosity(a: Species, b: Species, x_a: float, T, model: str = "vhs"):
+    """Chapman-Enskog first-approximation viscosity of a binary mixture, Pa s.
+
+    Hirschfelder, Curtiss and Bird (1954), eqs. 8.2-22 to 8.2-24 (Chapman and
+    Cowling 1970, sec. 12.3), from memory:
+
+        1/mu = (X + Y) / (1 + Z),
+        X = x1^2/mu1 + 2 x1 x2/mu12 + x2^2/mu2,
+        Y = (3/5) A* [x1^2/mu1 (m1/m2) + 2 x1 x2/mu12 (m1+m2)^2/(4 m1 m2)
+            mu12^2/(mu1 mu2) + x2^2/mu2 (m2/m1)],
+        Z = (3/5) A* [x1^2 (m1/m2) + 2 x1 x2 ((m1+m2)^2/(4 m1 m2)
+            (mu12/mu1 + mu12/mu2) - 1) + x2^2 (m2/m1)],
+
+    where ``mu12`` is the viscosity of a fictitious pure gas of molecular
+    mass ``2 m_r`` with the unlike-pair interaction, and
+    ``A* = Omega(2,2)* / Omega(1,1)*`` for that interaction.  For the VSS
+    model (VHS: alpha = 1) the transport cross-sections are
+    ``sigma_mu = 4 alpha sigma_T / ((alpha+1)(alpha+2))`` and
+    ``sigma_M = 2 sigma_T / (alpha + 1)``, and with ``sigma_T ~ g^(1-2 omega)``
+    the collision integrals give ``Omega(2,2)/Omega(1,1) = (sigma_mu/sigma_M)
+    (7/2 - omega)``; divided by the hard-sphere ratio 2,
+    ``A* = alpha (7 - 2 omega) / (2 (alpha + 2))`` (1 for hard spheres).
+    For identical species the formula returns the pure-gas viscosity (tested).
+    """
+    x1, x2 = float(x_a), 1.0 - float(x_a)
+    m1, m2 = a.mass, b.mass
+    mu1 = viscosity(a, T, model)
+    mu2 = viscosity(b, T, model)
+    m_r, d, omega, alpha, T_ref = pair_parameters(a, b, model)
+    if model == "hs":
+        omega = 0.5
+    mu12 = viscosity_for(2.0 * m_r, d, omega, alpha, T_ref, T)
+    A = alpha * (7.0 - 2.0 * omega) / (2.0 * (alpha + 2.0))
+    f = (m1 + m2) ** 2 / (4.0 * m1 * m2)
+    X = x1**2 / mu1 + 2.0 * x1 * x2 / mu12 + x2**2 / mu2
+    Y = 0.6 * A * (x1**2 / mu1 * (m1 / m2) + 2.0 * x1 * x2 / mu12 * f * mu12**2 / (mu1 * mu2)
+                   + x2**2 / mu2 * (m2 / m1))
+    Z = 0.6 * A * (x1**2 * (m1 / m2) + 2.0 * x1 * x2 * (f * (mu12 / mu1 + mu12 / mu2) - 1.0)
+                   + x2**2 * (m2 / m1))
+    return (1.0 + Z) / (X + Y)
+
+
+def wilke_viscosity(species, fractions, T, model: str = "vhs"):
+    """Wilke's (1950) mixing rule, J. Chem. Phys. 18, 517 (from memory), as a cross-check:
+
+    mu = sum_i x_i mu_i / sum_j x_j phi_ij,
+    phi_ij = [1 + (mu_i/mu_j)^(1/2) (m_j/m_i)^(1/4)]^2 / [8 (1 + m_i/m_j)]^(1/2).
+    """
+    mus = [viscosity(s, T, model) for s in species]
+    total = 0.0
+    for si, xi, mi in zip(species, fractions, mus):
+        den = 0.0
+        for sj, xj, mj in zip(species, fractions, mus):
+            phi = ((1.0 + (mi / mj) ** 0.5 * (sj.mass / si.mass) ** 0.25) ** 2
+                   / (8.0 * (1.0 + si.mass / sj.mass)) ** 0.5)
+            den = den + xj * phi
+        total = total + xi * mi / den
+    return total
+
+
+# --- Internal energy ---------------------------------------------------------
+
+def translational_collision_dof(omega: float) -> float:
+    """zeta_t = 5 - 2 omega: squared terms of the relative translational energy of
+    colliding VHS pairs (Bird 1994 sec. 5.4, from memory; see dsmc.kernels.collide)."""
+    return 5.0 - 2.0 * omega
+
+
+def rotational_probability(Z_rot: float, rot_dof: int, omega_pair: float) -> float:
+    """Per-collision relaxation probability P that gives the continuum collision number
+    ``Z_rot`` with this program's Larsen-Borgnakke scheme:
+
+        P = (1 + zeta_r / zeta_t) / Z_rot,   zeta_t = 5 - 2 omega_pair
+
+    (derived in :mod:`dsmc.kernels.collide`; the same correction as Lumpkin,
+    Haas and Boyd 1991, Phys. Fluids A 3, 2282, from memory).  0 for atoms.
+    """
+    if rot_dof == 0 or Z_rot <= 0.0:
+        return 0.0
+    return (1.0 + rot_dof / translational_collision_dof(omega_pair)) / Z_rot
+
+
+def vibrational_dof(T, theta):
+    """Effective vibrational degrees of freedom of a harmonic mode,
+    zeta_v = 2 (theta/T) / (exp(theta/T) - 1) (Bird 1994 sec. 5.5, from memory)."""
+    x = theta / np.asarray(T, dtype=float)
+    with np.errstate(over="ignore"):
+        return 2.0 * x / np.expm1(x)
+
+
+def vibrational_temperature(mean_level, theta):
+    """Temperature of a harmonic mode of mean level <i>: theta / ln(1 + 1/<i>)
+    (inverse of the Bose-Einstein mean <i> = 1/(exp(theta/T) - 1))."""
+    i = np.asarray(mean_level, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(i > 0, theta / np.log1p(1.0 / np.where(i > 0, i, 1.0)), 0.0)
+
+
+def relaxation_tables(species, model: str, Z_rot=None, vibrating=(), Z_vib: float = 50.0):
+    """Per-species and per-pair tables of the internal-energy exchange.
+
+    Returns ``(rot_dof, theta_vib, p_rot, p_vib)``: ``rot_dof[a]`` (int),
+    ``theta_vib[a]`` (K, 0 where vibration is off), and the probabilities
+    ``p_rot[a, b]`` / ``p_vib[a, b]`` that the molecule of species ``a``
+    relaxes in a collision with one of ``b`` (:func:`rotational_probability`
+    with the pair's omega; ``1/Z_vib`` for vibration).  ``Z_rot`` replaces the
+    species-table value of every molecular species when given; ``vibrating``
+    names the species whose single vibrational mode is active.  Raises
+    ``ValueError`` (one line) when a pair's probabilities add up to more
+    than 1, which the one-relaxation-per-collision scheme cannot represent.
+    """
+    ns = len(species)
+    rot_dof = np.array([s.rot_dof for s in species], dtype=np.int64)
+    theta = np.zeros(ns)
+    for k, s in enumerate(species):
+        if s.name in vibrating:
+            if len(s.vib_dof_char_T) != 1:
+                raise ValueError(f"vibration of '{s.name}' ({len(s.vib_dof_char_T)} modes) is not "
+                                 "supported: only molecules with one vibrational mode")
+            theta[k] = s.vib_dof_char_T[0]
+    if np.any(rot_dof > 3):
+        raise ValueError("more than 3 rotational degrees of freedom")
+    p_rot = np.zeros((ns, ns))
+    p_vib = np.zeros((ns, ns))
+    for i, a in enumerate(species):
+        Z = a.Z_rot if Z_rot is None else float(Z_rot)
+        for j, b in enumerate(species):
+            omega = pair_parameters(a, b, model)[2] if model != "hs" else 0.5
+            p_rot[i, j] = rotational_probability(Z, a.rot_dof, omega)
+            p_vib[i, j] = 1.0 / Z_vib if theta[i] > 0.0 else 0.0
+    for i, a in enumerate(species):
+        for j, b in enumerate(species):
+            total = p_rot[i, j] + p_rot[j, i] + p_vib[i, j] + p_vib[j, i]
+            if total > 1.0 + 1e-12:
+                raise ValueError(
+                    f"relaxation probabilities of the pair {a.name}-{b.name} add up to {total:.3g} > 1 "
+                    f"(P_rot = (1 + zeta_r/zeta_t)/Z_rot per molecule): use a larger "
+                    f"rotational_collision_number (Z_rot of '{a.name}' is "
+                    f"{a.Z_rot if Z_rot is None else Z_rot:g})")
+    return rot_dof, theta, p_rot, p_vib
