@@ -46,12 +46,13 @@ from dsmc.errors import UserError
 CAPACITY_FACTOR = 1.2  # Simulation allocates int(1.2 * particles) + 16 slots
 CAPACITY_EXTRA = 16
 BLOCK_SIZE = 4096  # particles per move stream (dsmc.simulation.BLOCK_SIZE)
-PARTICLE_ARRAYS = 2 * (8 * 1 + 8 * 3 + 1)  # pos (n, 1), v (n, 3), sp (n,), and scratch copies: 66
+# pos (n, 1), v (n, 3), sp (n,), erot (n,), vib (n, int32), and scratch copies: 90
+PARTICLE_ARRAYS = 2 * (8 * 1 + 8 * 3 + 1 + 8 + 4)
 SORT_ARRAYS = 4 + 8  # int32 key + int64 permutation per slot
 BLOCK_BYTES = 4 * 8 + 2 * 5 * 8  # per block: xoshiro state (4 uint64), wall accumulators (2 x 5)
 BYTES_PER_PARTICLE = PARTICLE_ARRAYS + SORT_ARRAYS + BLOCK_BYTES / BLOCK_SIZE
-COPY_BYTES_PER_PARTICLE = 8 * 1 + 8 * 3 + 1  # state(): copies of pos, v, sp
-MOMENTS = 13  # sampled moments per cell and species (dsmc.kernels.sample.N_MOMENTS)
+COPY_BYTES_PER_PARTICLE = 8 * 1 + 8 * 3 + 1 + 8 + 4  # state(): copies of pos, v, sp, erot, vib
+MOMENTS = 15  # sampled moments per cell and species (dsmc.kernels.sample.N_MOMENTS)
 COLL_STATS = 2  # per-cell collision statistics (dsmc.kernels.collide.N_COLL_STATS)
 SORT_CHUNKS = 16  # histogram chunks of the parallel counting sort (int32 each)
 
@@ -123,7 +124,7 @@ def estimate(case, threads: int | None = None) -> Estimate:
     particles = int(math.ceil(case.numerics.particles_per_cell * cells))
     capacity = CAPACITY_FACTOR * particles + CAPACITY_EXTRA
     batches = int(case.run.batches)
-    species = 1
+    species = len(case.gas.all_species)
     memory = {
         "base": BASE_BYTES,
         "particles": capacity * BYTES_PER_PARTICLE + particles * COPY_BYTES_PER_PARTICLE,

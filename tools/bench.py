@@ -297,8 +297,8 @@ def step_phases(sim, moments, walls, times):
     bs = simmod.BLOCK_SIZE
     pc = time.perf_counter
     t0 = pc()
-    move_1d(p.pos, p.v, p.sp, p.n, sim.dt, sim.grid.length, sim.walls, sim.mass,
-            sim.move_state, bs, sim._wall_acc)
+    move_1d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, sim.dt, sim.grid.length, sim.walls, sim.mass,
+            sim.rot_dof, sim.theta_vib, sim.move_state, bs, sim._wall_acc)
     t1 = pc()
     keys_1d(p.pos, p.n, sim.grid.length, sim.grid.cells, sim._key)
     t2 = pc()
@@ -306,11 +306,12 @@ def step_phases(sim, moments, walls, times):
     t3 = pc()
     p.reorder(sim._perm)
     t4 = pc()
-    sample_cells(p.v, p.sp, sim.cell_start, moments)
+    sample_cells(p.v, p.sp, p.erot, p.vib, sim.cell_start, moments)
     t5 = pc()
-    collide_ntc(p.pos, p.v, p.sp, sim.cell_start, sim.volume, sim.weight, sim.dt,
+    collide_ntc(p.pos, p.v, p.sp, p.erot, p.vib, sim.cell_start, sim.volume, sim.weight, sim.dt,
                 sim.sgmax, sim.remainder, sim.pair_c, sim.pair_exp, sim.pair_alpha,
-                sim.mass, sim.coll_state, 0, sim._coll)
+                sim.mass, sim.rot_half, sim.theta_vib, sim.p_rot, sim.p_vib, sim.coll_state, 0,
+                sim._coll)
     t6 = pc()
     walls += sim._wall_acc[: n_blocks(p.n, bs)].sum(axis=0)
     t7 = pc()

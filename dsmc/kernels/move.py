@@ -7,7 +7,7 @@ new velocity, so several hits in one step are handled exactly.  What each wall
 receives (hits, momentum, energy) is accumulated per particle block and per
 wall into ``acc[block, wall, :]``:
 
-    0: hits   1..3: m (v_in - v_out)   4: m (|v_in|^2 - |v_out|^2) / 2
+    0: hits   1..3: m (v_in - v_out)   4: m (|v_in|^2 - |v_out|^2) / 2 + e_int,in - e_int,out
 
 Particle ``i`` belongs to block ``i // block_size``, and block ``b`` draws its
 random numbers from stream ``b``: the result does not depend on how blocks are
@@ -19,7 +19,7 @@ from __future__ import annotations
 import numba as nb
 import numpy as np
 
-from dsmc.kernels.surfaces import PERIODIC, W_MODEL, reflect
+from dsmc.kernels.surfaces import PERIODIC, W_MODEL, reemit_internal, reflect
 
 N_WALL_ACC = 5
 # wall hits one particle may make in one step; reached only by absurd time steps, where the
@@ -28,27 +28,31 @@ MAX_HITS = 100_000
 
 
 @nb.njit(inline="always")
-def _hit(v, wall, nx, mass, state, b, acc_row):
+def _hit(v, wall, nx, mass, state, b, acc_row, erot, vib, i, rot_dof, theta_vib):
     e_in = v[0] * v[0] + v[1] * v[1] + v[2] * v[2]
     p0 = v[0]
     p1 = v[1]
     p2 = v[2]
-    reflect(v, nx, 0.0, wall, mass, state, b)
+    used = reflect(v, nx, 0.0, wall, mass, state, b)
+    de = reemit_internal(erot, vib, i, used, wall, rot_dof, theta_vib, state, b)
     acc_row[0] += 1.0
     acc_row[1] += mass * (p0 - v[0])
     acc_row[2] += mass * (p1 - v[1])
     acc_row[3] += mass * (p2 - v[2])
-    acc_row[4] += 0.5 * mass * (e_in - (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]))
+    acc_row[4] += 0.5 * mass * (e_in - (v[0] * v[0] + v[1] * v[1] + v[2] * v[2])) + de
 
 
 @nb.njit(parallel=True, cache=True)
-def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
+def move_1d(pos, v, sp, erot, vib, n, dt, length, walls, mass, rot_dof, theta_vib, state,
+            block_size, acc):
     """Advance particles ``0..n-1`` of a 1-D slab ``0 <= x <= length`` by ``dt``.
 
     ``pos`` has shape (n, 1); ``v`` (n, 3).
 
     ``walls`` has two rows (x = 0, x = length); a periodic pair wraps instead.
-    ``mass[sp[i]]`` is the molecular mass of particle ``i``.  ``acc`` has shape
+    ``mass[sp[i]]`` is the molecular mass of particle ``i``; ``erot`` / ``vib``
+    its internal energy, re-emitted with ``rot_dof[sp[i]]`` (int) and
+    ``theta_vib[sp[i]]`` (K, 0 = off).  ``acc`` has shape
     ``(n_blocks, 2, N_WALL_ACC)`` and is overwritten.
     """
     n_blocks = (n + block_size - 1) // block_size
@@ -64,7 +68,8 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
             if periodic:
                 pos[i, 0] = (pos[i, 0] + vi[0] * dt) % length
                 continue
-            m = mass[sp[i]]
+            si = sp[i]
+            m = mass[si]
             xi = pos[i, 0]
             t = dt
             hits = 0
@@ -73,11 +78,13 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc):
                 if xn < 0.0:
                     t -= xi / (-vi[0])
                     xi = 0.0
-                    _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0])
+                    _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0], erot, vib, i, rot_dof[si],
+                         theta_vib[si])
                 elif xn > length:
                     t -= (length - xi) / vi[0]
                     xi = length
-                    _hit(vi, walls[1], -1.0, m, state, b, acc[b, 1])
+                    _hit(vi, walls[1], -1.0, m, state, b, acc[b, 1], erot, vib, i, rot_dof[si],
+                         theta_vib[si])
                 else:
                     xi = xn
                     break
