@@ -307,46 +307,55 @@ def mixture_collision_rates(species, fractions, T, n, model: str = "vhs") -> np.
                          for b, x in zip(species, fractions)) for a in species])
 
 
-def mixture_viscosity(a: Species, b: Species, x_a: float, T, model: str = "vhs"):
-    """Chapman-Enskog first-approximation viscosity of a binary mixture, Pa s.
+def mixture_viscosity(species, fractions, T: float, model: str = "vhs") -> float:
+    """Chapman-Enskog first-approximation viscosity of a mixture, Pa s.
 
-    Hirschfelder, Curtiss and Bird (1954), eqs. 8.2-22 to 8.2-24 (Chapman and
+    Hirschfelder, Curtiss and Bird (1954), eqs. 8.2-21 to 8.2-24 (Chapman and
     Cowling 1970, sec. 12.3), from memory:
 
-        1/mu = (X + Y) / (1 + Z),
-        X = x1^2/mu1 + 2 x1 x2/mu12 + x2^2/mu2,
-        Y = (3/5) A* [x1^2/mu1 (m1/m2) + 2 x1 x2/mu12 (m1+m2)^2/(4 m1 m2)
-            mu12^2/(mu1 mu2) + x2^2/mu2 (m2/m1)],
-        Z = (3/5) A* [x1^2 (m1/m2) + 2 x1 x2 ((m1+m2)^2/(4 m1 m2)
-            (mu12/mu1 + mu12/mu2) - 1) + x2^2 (m2/m1)],
+        mu = - det [[H, x], [x^T, 0]] / det H,
+        H_ii = x_i^2/mu_i + sum_{k != i} 2 x_i x_k / mu_ik * m_i m_k/(m_i + m_k)^2
+               * (5/(3 A*_ik) + m_k/m_i),
+        H_ij = - 2 x_i x_j / mu_ij * m_i m_j/(m_i + m_j)^2 * (5/(3 A*_ij) - 1),
 
-    where ``mu12`` is the viscosity of a fictitious pure gas of molecular
-    mass ``2 m_r`` with the unlike-pair interaction, and
-    ``A* = Omega(2,2)* / Omega(1,1)*`` for that interaction.  For the VSS
-    model (VHS: alpha = 1) the transport cross-sections are
-    ``sigma_mu = 4 alpha sigma_T / ((alpha+1)(alpha+2))`` and
-    ``sigma_M = 2 sigma_T / (alpha + 1)``, and with ``sigma_T ~ g^(1-2 omega)``
-    the collision integrals give ``Omega(2,2)/Omega(1,1) = (sigma_mu/sigma_M)
-    (7/2 - omega)``; divided by the hard-sphere ratio 2,
-    ``A* = alpha (7 - 2 omega) / (2 (alpha + 2))`` (1 for hard spheres).
-    For identical species the formula returns the pure-gas viscosity (tested).
+    where ``mu_ij`` is the viscosity of a fictitious pure gas of molecular
+    mass ``2 m_r`` with the i-j interaction (:func:`pair_parameters`,
+    :func:`viscosity_for`; ``mu_ii`` is the pure-gas viscosity) and
+    ``A*_ij = Omega(2,2)* / Omega(1,1)*``.  For the VSS model (VHS: alpha = 1)
+    the transport cross-sections are ``sigma_mu = 4 alpha sigma_T /
+    ((alpha+1)(alpha+2))`` and ``sigma_M = 2 sigma_T / (alpha + 1)``; with
+    ``sigma_T ~ g^(1-2 omega)`` the collision integrals give
+    ``Omega(2,2)/Omega(1,1) = (sigma_mu/sigma_M)(7/2 - omega)``, and divided
+    by the hard-sphere ratio 2, ``A* = alpha (7 - 2 omega) / (2 (alpha + 2))``
+    (1 for hard spheres).  ``T`` is a scalar.  One species gives its own
+    viscosity; the binary case equals HCB's explicit eq. 8.2-22 (tested).
     """
-    x1, x2 = float(x_a), 1.0 - float(x_a)
-    m1, m2 = a.mass, b.mass
-    mu1 = viscosity(a, T, model)
-    mu2 = viscosity(b, T, model)
-    m_r, d, omega, alpha, T_ref = pair_parameters(a, b, model)
-    if model == "hs":
-        omega = 0.5
-    mu12 = viscosity_for(2.0 * m_r, d, omega, alpha, T_ref, T)
-    A = alpha * (7.0 - 2.0 * omega) / (2.0 * (alpha + 2.0))
-    f = (m1 + m2) ** 2 / (4.0 * m1 * m2)
-    X = x1**2 / mu1 + 2.0 * x1 * x2 / mu12 + x2**2 / mu2
-    Y = 0.6 * A * (x1**2 / mu1 * (m1 / m2) + 2.0 * x1 * x2 / mu12 * f * mu12**2 / (mu1 * mu2)
-                   + x2**2 / mu2 * (m2 / m1))
-    Z = 0.6 * A * (x1**2 * (m1 / m2) + 2.0 * x1 * x2 * (f * (mu12 / mu1 + mu12 / mu2) - 1.0)
-                   + x2**2 * (m2 / m1))
-    return (1.0 + Z) / (X + Y)
+    x = np.asarray(fractions, dtype=float)
+    ns = len(species)
+    m = np.array([s.mass for s in species])
+    mu = np.empty((ns, ns))
+    A = np.empty((ns, ns))
+    for i, a in enumerate(species):
+        for j, b in enumerate(species):
+            m_r, d, omega, alpha, T_ref = pair_parameters(a, b, model)
+            if model == "hs":
+                omega = 0.5
+            mu[i, j] = viscosity_for(2.0 * m_r, d, omega, alpha, T_ref, float(T))
+            A[i, j] = alpha * (7.0 - 2.0 * omega) / (2.0 * (alpha + 2.0))
+    H = np.zeros((ns, ns))
+    for i in range(ns):
+        H[i, i] = x[i] ** 2 / mu[i, i]
+        for k in range(ns):
+            if k == i:
+                continue
+            f = 2.0 * x[i] * x[k] / mu[i, k] * m[i] * m[k] / (m[i] + m[k]) ** 2
+            H[i, i] += f * (5.0 / (3.0 * A[i, k]) + m[k] / m[i])
+            H[i, k] = -f * (5.0 / (3.0 * A[i, k]) - 1.0)
+    B = np.zeros((ns + 1, ns + 1))
+    B[:ns, :ns] = H
+    B[:ns, ns] = x
+    B[ns, :ns] = x
+    return float(-np.linalg.det(B) / np.linalg.det(H))
 
 
 def wilke_viscosity(species, fractions, T, model: str = "vhs"):
