@@ -317,3 +317,39 @@ def test_gas_between_diffuse_walls_takes_their_temperature_in_every_mode():
         value, se = f[name][0][0], f[name][1][0]
         assert se < 0.005 * 500.0
         assert abs(value - 500.0) < 4.0 * se, (name, value, se)
+
+
+# --------------------------------------------------------------- state, files
+
+def test_restored_state_continues_bit_identically_with_internal_energy():
+    extra = 'vibration = true\nvibrational_collision_number = 20'
+    ref = box('"N2"', extra, T=2000.0, wall="diffuse", wall_keys="temperature = 500.0",
+              ppc=2000, p=50.0)
+    ref.advance(60)
+    a = box('"N2"', extra, T=2000.0, wall="diffuse", wall_keys="temperature = 500.0",
+            ppc=2000, p=50.0)
+    a.advance(30)
+    b = box('"N2"', extra, T=2000.0, wall="diffuse", wall_keys="temperature = 500.0",
+            ppc=2000, p=50.0)
+    b.restore(a.state())
+    b.advance(30)
+    assert np.array_equal(b.rotational_energies, ref.rotational_energies)
+    assert np.array_equal(b.vibrational_levels, ref.vibrational_levels)
+    assert np.array_equal(b.velocities, ref.velocities)
+    assert ref.vibrational_levels.any()
+
+
+def test_slip_comparison_refuses_a_molecular_gas(tmp_path):
+    from dsmc.analysis.report import load
+    from dsmc.errors import UserError
+    from dsmc.io.results import write_results
+    from dsmc.simulation import result_tree
+
+    sim = box('"N2"', ppc=200)
+    sim.advance(4, sample=True)
+    sim.close_batch()
+    sim.advance(4, sample=True)
+    sim.close_batch()
+    path = write_results(tmp_path / "n2.h5", result_tree(sim))
+    with pytest.raises(UserError, match="molecular gas 'N2'"):
+        load(path)
