@@ -32,7 +32,7 @@ class GasSpec:
     velocity: tuple[float, float, float]  # m/s, initial drift
     mixture: tuple[Species, ...] = ()  # every species, in case-file order; () = (species,)
     mole_fractions: tuple[float, ...] = (1.0,)
-    rotational_collision_number: float | None = None  # None: each species' table value
+    rotational_collision_number: float | str | None = None  # None: table value; "parker"
     vibration: tuple[str, ...] = ()  # names of the species whose vibration is active
     vibrational_collision_number: float = 50.0
 
@@ -330,7 +330,11 @@ def _read_gas(t: _Table) -> GasSpec:
     else:
         n = t.number("number_density", positive=True, maximum=1e30, unit="1/m^3")
     velocity = t.vector3("velocity", unit="m/s")
-    z_rot = t.number("rotational_collision_number", None, minimum=1.0, maximum=1e6)
+    if t.has("rotational_collision_number") and isinstance(t.data["rotational_collision_number"],
+                                                               str):
+        z_rot = t.choice("rotational_collision_number", ("parker",))
+    else:
+        z_rot = t.number("rotational_collision_number", None, minimum=1.0, maximum=1e6)
     vibration = _read_vibration(t, species)
     z_vib = t.number("vibrational_collision_number", 50.0, minimum=1.0, maximum=1e9)
     t.finish()
@@ -339,7 +343,7 @@ def _read_gas(t: _Table) -> GasSpec:
     try:
         gas.relaxation_tables()
     except ValueError as err:
-        t.fail(str(err), "rotational_collision_number" if "rotational" in str(err) else "vibration")
+        t.fail(str(err), "vibration" if "vibration" in str(err) else "rotational_collision_number")
     return gas
 
 

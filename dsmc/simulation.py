@@ -79,7 +79,8 @@ class Simulation:
         self.mole_fractions = np.array(gas.mole_fractions, dtype=float)
         self.mass = np.array([s.mass for s in self.species])
         # internal energy: rotational dof (int), theta_vib (K, 0 = off), relaxation probabilities
-        self.rot_dof, self.theta_vib, self.p_rot, self.p_vib = gas.relaxation_tables()
+        self.rot_dof, self.theta_vib, self.p_rot, self.p_vib, self.rot_tstar = \
+            gas.relaxation_tables()
         self.rot_half = 0.5 * self.rot_dof.astype(float)
         self.volume = self.grid.volumes
         n_target = case.numerics.particles_per_cell * self.grid.cells
@@ -344,7 +345,7 @@ class Simulation:
         collide_ntc(p.pos, p.v, p.sp, p.erot, p.vib, self.cell_start, self.volume, self.weight,
                     self.dt, self.sgmax, self.remainder, self.pair_c, self.pair_exp,
                     self.pair_alpha, self.mass, self.rot_half, self.theta_vib, self.p_rot,
-                    self.p_vib, self.coll_state, 0, self._coll)
+                    self.p_vib, self.rot_tstar, self.coll_state, 0, self._coll)
         self.step_count += 1
         if sample:
             b = self._batch

@@ -310,7 +310,8 @@ def step_phases(sim, moments, walls, times):
     t5 = pc()
     collide_ntc(p.pos, p.v, p.sp, p.erot, p.vib, sim.cell_start, sim.volume, sim.weight, sim.dt,
                 sim.sgmax, sim.remainder, sim.pair_c, sim.pair_exp, sim.pair_alpha,
-                sim.mass, sim.rot_half, sim.theta_vib, sim.p_rot, sim.p_vib, sim.coll_state, 0,
+                sim.mass, sim.rot_half, sim.theta_vib, sim.p_rot, sim.p_vib, sim.rot_tstar,
+                sim.coll_state, 0,
                 sim._coll)
     t6 = pc()
     walls += sim._wall_acc[: n_blocks(p.n, bs)].sum(axis=0)

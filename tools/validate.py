@@ -33,7 +33,7 @@ sys.path.insert(0, str(ROOT / "tests"))
 from conftest import bulk_mean  # noqa: E402
 from test_collisions import BOX, _temperature  # noqa: E402
 from test_gap_limits import FM_CASE, FM_SETS, _slip_solution  # noqa: E402
-from test_internal_energy import relaxation_numbers  # noqa: E402
+from test_internal_energy import parker_ratios, relaxation_numbers  # noqa: E402
 
 from dsmc.analysis import limits  # noqa: E402
 from dsmc.case import load_case, parse_case  # noqa: E402
@@ -150,6 +150,10 @@ def internal_energy(scale):
         fits = relaxation_numbers(species, model, extra, seeds=range(1, 1 + 16 * scale))
         row(f"rotational relaxation {species} {model}: Z_rot fit (Jeans 1904)", fits.mean(),
             fits.std(ddof=1) / math.sqrt(fits.size), Z)
+
+    r = parker_ratios(range(1, 1 + 24 * scale))
+    row("rotational relaxation N2 Parker Z(T): slope / Jeans slope", r.mean(),
+        r.std(ddof=1) / math.sqrt(r.size), 1.0)
 
     # nitrogen conductivity: the shipped near-continuum Fourier gap
     case = load_case(ROOT / "cases" / "nitrogen-gap-fourier-continuum.toml")

@@ -398,6 +398,24 @@ def rotational_probability(Z_rot: float, rot_dof: int, omega_pair: float) -> flo
     return (1.0 + rot_dof / translational_collision_dof(omega_pair)) / Z_rot
 
 
+#: Parker (1959) constants ``(Z_inf, T*)``: N2 values as commonly used with the formula
+#: (Parker 1959, Phys. Fluids 2, 449; Lumpkin, Haas and Boyd 1991), from memory.  Other
+#: species have none here.
+PARKER = {"N2": (18.1, 91.5)}
+
+
+def parker_rotational_number(T, Z_inf: float, T_star: float):
+    """Parker's (1959) continuum rotational collision number,
+
+    Z_rot(T) = Z_inf / (1 + (pi^(3/2)/2) sqrt(T*/T) + (pi + pi^2/4) T*/T)
+
+    (from memory).  For N2 (:data:`PARKER`) it gives about 4.3 at 300 K and
+    5.1 at 500 K.
+    """
+    r = T_star / np.asarray(T, dtype=float)
+    return Z_inf / (1.0 + 0.5 * math.pi**1.5 * np.sqrt(r) + (math.pi + 0.25 * math.pi**2) * r)
+
+
 def vibrational_dof(T, theta):
     """Effective vibrational degrees of freedom of a harmonic mode,
     zeta_v = 2 (theta/T) / (exp(theta/T) - 1) (Bird 1994 sec. 5.5, from memory)."""
@@ -417,12 +435,17 @@ def vibrational_temperature(mean_level, theta):
 def relaxation_tables(species, model: str, Z_rot=None, vibrating=(), Z_vib: float = 50.0):
     """Per-species and per-pair tables of the internal-energy exchange.
 
-    Returns ``(rot_dof, theta_vib, p_rot, p_vib)``: ``rot_dof[a]`` (int),
+    Returns ``(rot_dof, theta_vib, p_rot, p_vib, rot_tstar)``: ``rot_dof[a]`` (int),
     ``theta_vib[a]`` (K, 0 where vibration is off), and the probabilities
     ``p_rot[a, b]`` / ``p_vib[a, b]`` that the molecule of species ``a``
     relaxes in a collision with one of ``b`` (:func:`rotational_probability`
     with the pair's omega; ``1/Z_vib`` for vibration).  ``Z_rot`` replaces the
-    species-table value of every molecular species when given; ``vibrating``
+    species-table value of every molecular species when given; ``"parker"``
+    selects Parker's temperature-dependent number for every molecular species
+    (constants in :data:`PARKER`): ``p_rot`` then holds the value at ``Z_inf``
+    and ``rot_tstar[a] = T*`` (0 for constant ``Z_rot``), and the kernel scales it
+    with the cell temperature (the sum check below cannot cover every
+    temperature: the kernel caps it, see :mod:`dsmc.kernels.collide`); ``vibrating``
     names the species whose single vibrational mode is active.  Raises
     ``ValueError`` (one line) when a pair's probabilities add up to more
     than 1, which the one-relaxation-per-collision scheme cannot represent.
@@ -438,10 +461,22 @@ def relaxation_tables(species, model: str, Z_rot=None, vibrating=(), Z_vib: floa
             theta[k] = s.vib_dof_char_T[0]
     if np.any(rot_dof > 3):
         raise ValueError("more than 3 rotational degrees of freedom")
+    rot_tstar = np.zeros(ns)
+    parker = isinstance(Z_rot, str)
+    if parker:
+        for k, s in enumerate(species):
+            if s.rot_dof:
+                if s.name not in PARKER:
+                    raise ValueError(f"no Parker constants for '{s.name}' (known: "
+                                     f"{', '.join(PARKER)})")
+                rot_tstar[k] = PARKER[s.name][1]
     p_rot = np.zeros((ns, ns))
     p_vib = np.zeros((ns, ns))
     for i, a in enumerate(species):
-        Z = a.Z_rot if Z_rot is None else float(Z_rot)
+        if parker:
+            Z = PARKER[a.name][0] if a.rot_dof else 0.0
+        else:
+            Z = a.Z_rot if Z_rot is None else float(Z_rot)
         for j, b in enumerate(species):
             omega = pair_parameters(a, b, model)[2] if model != "hs" else 0.5
             p_rot[i, j] = rotational_probability(Z, a.rot_dof, omega)
@@ -455,4 +490,4 @@ def relaxation_tables(species, model: str, Z_rot=None, vibrating=(), Z_vib: floa
                     f"(P_rot = (1 + zeta_r/zeta_t)/Z_rot per molecule): use a larger "
                     f"rotational_collision_number (Z_rot of '{a.name}' is "
                     f"{a.Z_rot if Z_rot is None else Z_rot:g})")
-    return rot_dof, theta, p_rot, p_vib
+    return rot_dof, theta, p_rot, p_vib, rot_tstar

@@ -104,6 +104,11 @@ continuum ``Z_rot`` of the species table or case file: the correction of
 Lumpkin, Haas and Boyd (1991) for this scheme, rederived here and checked by
 ``tests/test_internal_energy.py``.  Vibration uses ``P = 1/Z_vib`` without a
 correction (the factor for the quantized mode depends on temperature).
+
+Temperature-dependent ``Z_rot`` (Parker 1959): the probability is
+re-evaluated in every cell and step from the cell's translational
+temperature, ``P = (1 + zeta_r/zeta_t) / Z_rot(T_cell)``.  Within a step it
+is constant, so each collision still satisfies detailed balance.
 """
 
 from __future__ import annotations
@@ -111,6 +116,7 @@ from __future__ import annotations
 import math
 
 import numba as nb
+import numpy as np
 
 from dsmc.kernels.rng import uniform, uniform_open0
 
@@ -165,6 +171,31 @@ def vib_level(E_c, e_quantum, B, state, s):
 
 
 @nb.njit(inline="always")
+def parker_factor(T, T_star):
+    """``Z_inf / Z_rot(T)`` of Parker's (1959) formula (see :func:`dsmc.gas.kinetic.parker_rotational_number`)."""
+    r = T_star / max(T, 1e-300)
+    return 1.0 + 0.5 * math.pi**1.5 * math.sqrt(r) + (math.pi + 0.25 * math.pi**2) * r
+
+
+@nb.njit(inline="always")
+def cell_temperature(v, sp, mass, lo, hi):
+    """Translational temperature of particles ``lo .. hi-1`` about their mass-average velocity."""
+    m_sum = 0.0
+    px = 0.0
+    py = 0.0
+    pz = 0.0
+    e2 = 0.0
+    for i in range(lo, hi):
+        m = mass[sp[i]]
+        m_sum += m
+        px += m * v[i, 0]
+        py += m * v[i, 1]
+        pz += m * v[i, 2]
+        e2 += m * (v[i, 0] * v[i, 0] + v[i, 1] * v[i, 1] + v[i, 2] * v[i, 2])
+    return (e2 - (px * px + py * py + pz * pz) / m_sum) / (3.0 * K_B * (hi - lo))
+
+
+@nb.njit(inline="always")
 def _other(lo, m, i, state, s):
     """A uniformly chosen position of ``lo .. lo+m-1`` other than ``i`` (m >= 2)."""
     j = lo + min(int(uniform(state, s) * (m - 1)), m - 2)
@@ -174,7 +205,7 @@ def _other(lo, m, i, state, s):
 @nb.njit(parallel=True, cache=True)
 def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, remainder,
                 pair_c, pair_exp, pair_alpha, mass, rot_half, theta_vib, pair_prot, pair_pvib,
-                state, stream0, stats):
+                rot_tstar, state, stream0, stats):
     """Collide the particles of every cell for one step.
 
     ``pos`` (n, d) positions (only used for the collision-separation
@@ -187,16 +218,32 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
     ``rot_half[a] = zeta_r / 2``, ``theta_vib[a]`` the vibrational temperature
     (K).  ``pair_prot[a, b]`` / ``pair_pvib[a, b]``: probability that the
     particle of species ``a`` relaxes its rotation / vibration in a collision
-    with one of species ``b`` (0 switches the mode off).  ``stats[c]`` gains
-    the accepted collisions and the summed pair separations.
+    with one of species ``b`` (0 switches the mode off).  ``rot_tstar[a] > 0``
+    makes species ``a``'s rotational probability temperature-dependent
+    (Parker): ``pair_prot[a, b]`` is then the value at ``Z_inf`` and is
+    multiplied by ``Z_inf / Z(T)`` at the cell's translational temperature
+    (:func:`parker_factor`); where the pair's probabilities would exceed 1 in
+    sum, the rotational ones are scaled down to fill the remainder.
+    ``stats[c]`` gains the accepted collisions and the summed pair separations.
     """
     n_cells = cell_start.size - 1
     dim = pos.shape[1]
+    ns = mass.size
+    variable = False
+    for a in range(ns):
+        if rot_tstar[a] > 0.0:
+            variable = True
     for c in nb.prange(n_cells):
         s0 = cell_start[c]
         nc = cell_start[c + 1] - s0
         if nc < 2 or volume[c] <= 0.0:
             continue
+        fac = np.ones(ns if variable else 1)  # Z_inf / Z(T_cell) per species
+        if variable:
+            T = cell_temperature(v, sp, mass, s0, s0 + nc)
+            for a in range(ns):
+                if rot_tstar[a] > 0.0:
+                    fac[a] = parker_factor(T, rot_tstar[a])
         st = stream0 + c
         sgm = sgmax[c]
         expected = 0.5 * nc * (nc - 1) * weight * sgm * dt / volume[c] + remainder[c]
@@ -231,6 +278,13 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
             pvj = pair_pvib[b, a]
             pri = pair_prot[a, b]
             prj = pair_prot[b, a]
+            if variable:
+                pri *= fac[a]
+                prj *= fac[b]
+            if pvi + pvj + pri + prj > 1.0:
+                cut = max(0.0, 1.0 - pvi - pvj) / (pri + prj)
+                pri *= cut
+                prj *= cut
             if pvi + pvj + pri + prj > 0.0:
                 u = uniform(state, st)
                 if u < pvi + pvj + pri + prj:
