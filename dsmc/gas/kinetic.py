@@ -416,22 +416,6 @@ def parker_rotational_number(T, Z_inf: float, T_star: float):
     return Z_inf / (1.0 + 0.5 * math.pi**1.5 * np.sqrt(r) + (math.pi + 0.25 * math.pi**2) * r)
 
 
-def vibrational_dof(T, theta):
-    """Effective vibrational degrees of freedom of a harmonic mode,
-    zeta_v = 2 (theta/T) / (exp(theta/T) - 1) (Bird 1994 sec. 5.5, from memory)."""
-    x = theta / np.asarray(T, dtype=float)
-    with np.errstate(over="ignore"):
-        return 2.0 * x / np.expm1(x)
-
-
-def vibrational_temperature(mean_level, theta):
-    """Temperature of a harmonic mode of mean level <i>: theta / ln(1 + 1/<i>)
-    (inverse of the Bose-Einstein mean <i> = 1/(exp(theta/T) - 1))."""
-    i = np.asarray(mean_level, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(i > 0, theta / np.log1p(1.0 / np.where(i > 0, i, 1.0)), 0.0)
-
-
 def relaxation_tables(species, model: str, Z_rot=None, vibrating=(), Z_vib: float = 50.0):
     """Per-species and per-pair tables of the internal-energy exchange.
 
