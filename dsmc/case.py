@@ -16,7 +16,7 @@ from pathlib import Path
 from typing import Any
 
 from dsmc.errors import CaseError, UnknownNameError, nearest
-from dsmc.gas.kinetic import K_B
+from dsmc.gas.kinetic import K_B, relaxation_tables
 from dsmc.gas.species import Species, get_species
 from dsmc.gas.shock import shock_states
 from dsmc.models import BOUNDARY_KINDS, COLLISION_MODELS, OPEN_BOUNDARIES, WALL_MODELS
@@ -26,15 +26,30 @@ SIDES_1D = ("xmin", "xmax")
 
 @dataclass(frozen=True)
 class GasSpec:
-    species: Species
+    species: Species  # the first (for a simple gas the only) species
     collision_model: str
     temperature: float  # K, initial gas temperature
     number_density: float  # 1/m^3, mean over the domain
     velocity: tuple[float, float, float]  # m/s, initial drift
+    mixture: tuple[Species, ...] = ()  # every species, in case-file order; () = (species,)
+    mole_fractions: tuple[float, ...] = (1.0,)
+    rotational_collision_number: float | str | None = None  # None: table value; "parker"
+    vibration: tuple[str, ...] = ()  # names of the species whose vibration is active
+    vibrational_collision_number: float = 50.0
 
     @property
     def pressure(self) -> float:
         return self.number_density * K_B * self.temperature
+
+    @property
+    def all_species(self) -> tuple[Species, ...]:
+        return self.mixture or (self.species,)
+
+    def relaxation_tables(self):
+        """:func:`dsmc.gas.kinetic.relaxation_tables` of this gas."""
+        return relaxation_tables(self.all_species, self.collision_model,
+                                 self.rotational_collision_number, self.vibration,
+                                 self.vibrational_collision_number)
 
 
 @dataclass(frozen=True)
@@ -268,17 +283,71 @@ def _short(value) -> str:
 _TOP_KEYS = ("title", "gas", "domain", "boundary", "shock", "initial", "numerics", "run")
 
 
+MAX_SPECIES = 255  # species indices are uint8
+
+
+def _read_species(t: _Table) -> tuple[tuple[Species, ...], tuple[float, ...]]:
+    raw = t._raw("species", True)
+    names = [raw] if isinstance(raw, str) else raw
+    if not isinstance(names, list):
+        t.fail(f"expected a gas name, got {_type_name(raw)}", "species")
+    if not names or not all(isinstance(x, str) for x in names):
+        t.fail(f"expected a non-empty list of gas names, got {_short(raw)}", "species")
+    if len(names) > MAX_SPECIES:
+        t.fail(f"at most {MAX_SPECIES} species, got {len(names)}", "species")
+    found = []
+    for name in names:
+        try:
+            found.append(get_species(name))
+        except UnknownNameError as err:
+            t.fail(str(err), "species")
+    canon = [s.name for s in found]
+    for k, c in enumerate(canon):
+        if c in canon[:k]:
+            t.fail(f"'{c}' is listed twice", "species")
+    if isinstance(raw, str):
+        if t.has("mole_fractions"):
+            t.fail("only for a list of species", "mole_fractions")
+        return tuple(found), (1.0,)
+    x = t._raw("mole_fractions", True)
+    if (not isinstance(x, list) or len(x) != len(found)
+            or any(isinstance(c, bool) or not isinstance(c, (int, float)) for c in x)):
+        t.fail(f"expected a list of {len(found)} numbers (one per species), got {_short(x)}",
+               "mole_fractions")
+    if any(not math.isfinite(c) or c <= 0 for c in x):
+        t.fail(f"every mole fraction must be positive and finite, got {_short(x)}", "mole_fractions")
+    if abs(sum(x) - 1.0) > 1e-6:
+        t.fail(f"must add up to 1, got {sum(x):.9g}", "mole_fractions")
+    total = float(sum(x))
+    return tuple(found), tuple(float(c) / total for c in x)
+
+
+def _read_vibration(t: _Table, species) -> tuple[str, ...]:
+    raw = t._raw("vibration", False)
+    molecular = [s.name for s in species if s.vib_dof_char_T]
+    if raw is None or raw is False:
+        return ()
+    if raw is True:
+        chosen = molecular
+    elif isinstance(raw, list) and all(isinstance(x, str) for x in raw):
+        chosen = []
+        for name in raw:
+            try:
+                c = get_species(name).name
+            except UnknownNameError as err:
+                t.fail(str(err), "vibration")
+            if c not in [s.name for s in species]:
+                t.fail(f"'{name}' is not one of the gas species", "vibration")
+            if c not in molecular:
+                t.fail(f"'{c}' has no vibrational mode", "vibration")
+            chosen.append(c)
+    else:
+        t.fail(f"expected true, false or a list of species names, got {_short(raw)}", "vibration")
+    return tuple(chosen)
+
+
 def _read_gas(t: _Table) -> GasSpec:
-    name = t._raw("species", True)
-    if not isinstance(name, str):
-        t.fail(f"expected a gas name, got {_type_name(name)}", "species")
-    try:
-        species = get_species(name)
-    except UnknownNameError as err:
-        t.fail(str(err), "species")
-    if species.rot_dof or species.vib_dof_char_T:
-        t.fail(f"'{species.name}' has internal degrees of freedom, whose energy exchange is not "
-               "implemented yet; use a monatomic gas (He, Ne, Ar, Kr, Xe)", "species")
+    species, fractions = _read_species(t)
     model = t.choice("collision_model", COLLISION_MODELS, "vhs")
     temperature = t.number("temperature", required=True, positive=True, maximum=1e5, unit="K")
     if t.has("pressure") == t.has("number_density"):
@@ -289,8 +358,21 @@ def _read_gas(t: _Table) -> GasSpec:
     else:
         n = t.number("number_density", positive=True, maximum=1e30, unit="1/m^3")
     velocity = t.vector3("velocity", unit="m/s")
+    if t.has("rotational_collision_number") and isinstance(t.data["rotational_collision_number"],
+                                                               str):
+        z_rot = t.choice("rotational_collision_number", ("parker",))
+    else:
+        z_rot = t.number("rotational_collision_number", None, minimum=1.0, maximum=1e6)
+    vibration = _read_vibration(t, species)
+    z_vib = t.number("vibrational_collision_number", 50.0, minimum=1.0, maximum=1e9)
     t.finish()
-    return GasSpec(species, model, temperature, n, velocity)
+    gas = GasSpec(species[0], model, temperature, n, velocity,
+                  species if len(species) > 1 else (), fractions, z_rot, vibration, z_vib)
+    try:
+        gas.relaxation_tables()
+    except ValueError as err:
+        t.fail(str(err), "vibration" if "vibration" in str(err) else "rotational_collision_number")
+    return gas
 
 
 def _read_domain(t: _Table) -> DomainSpec:
@@ -397,6 +479,22 @@ def _read_walls(top: _Table, gas: GasSpec) -> tuple[WallSpec, WallSpec]:
     return walls[0], walls[1]
 
 
+def _check_open_sides_gas(top: _Table, gas: GasSpec, walls, shock):
+    """Open sides inject molecules of one monatomic species only (the injection kernel
+    draws no internal energy and no species mix yet)."""
+    rot_dof, theta_vib = gas.relaxation_tables()[:2]
+    if len(gas.all_species) == 1 and not rot_dof.any() and not theta_vib.any():
+        return
+    what = ("a gas mixture" if len(gas.all_species) > 1
+            else f"'{gas.all_species[0].name}', whose internal energy is exchanged")
+    if shock is not None:
+        top.fail(f"the shock case needs a single monatomic gas, not {what}", "shock")
+    for side, w in zip(SIDES_1D, walls):
+        if w.is_open:
+            top.fail(f"open sides inject a single monatomic gas only, not {what}",
+                     f"boundary.{side}.model")
+
+
 def _read_initial(t: _Table | None) -> InitialSpec:
     if t is None:
         return InitialSpec()
@@ -481,6 +579,7 @@ def parse_case(text: str, path: str = "<case>") -> Case:
     domain = _read_domain(top.table("domain", required=True))
     shock = _read_shock(top.table("shock"))
     walls = _read_walls(top, gas) if shock is None else _shock_walls(top, gas, shock)
+    _check_open_sides_gas(top, gas, walls, shock)
     initial = _read_initial(top.table("initial"))
     numerics = _read_numerics(top.table("numerics"))
     run = _read_run(top.table("run"))

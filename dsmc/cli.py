@@ -105,7 +105,10 @@ def cmd_check(args) -> int:
     sim = Simulation(case, seed=args.seed)
     ref = sim.reference_state()
     print(f"case {case.path}: {case.title}: valid")
-    print(f"gas {case.gas.species.name} ({case.gas.collision_model}), T {case.gas.temperature:g} K, "
+    gas = case.gas
+    names = (" + ".join(f"{x:g} {s.name}" for s, x in zip(gas.all_species, gas.mole_fractions))
+             if gas.mixture else gas.species.name)
+    print(f"gas {names} ({case.gas.collision_model}), T {case.gas.temperature:g} K, "
           f"p {case.gas.pressure:.5g} Pa, n {case.gas.number_density:.5g} 1/m^3")
     print(f"mean free path {ref['mean_free_path']:.4g} m, mean collision time "
           f"{ref['mean_collision_time']:.4g} s")

@@ -48,10 +48,12 @@ CAPACITY_EXTRA = 16
 BLOCK_SIZE = 4096  # particles per move stream (dsmc.simulation.BLOCK_SIZE)
 # pos (n, 1), v (n, 3), sp (n,) and their scratch copies, int32 cell key: 70
 PARTICLE_ARRAYS = 2 * (8 * 1 + 8 * 3 + 1) + 4
+INTERNAL_ARRAYS = 2 * (8 + 4)  # erot (float64), vib (int32) and scratch: gases with internal modes
 BLOCK_BYTES = 4 * 8 + 2 * 5 * 8  # per block: xoshiro state (4 uint64), wall accumulators (2 x 5)
 BYTES_PER_PARTICLE = PARTICLE_ARRAYS + BLOCK_BYTES / BLOCK_SIZE
 COPY_BYTES_PER_PARTICLE = 8 * 1 + 8 * 3 + 1  # state(): copies of pos, v, sp
-MOMENTS = 13  # sampled moments per cell and species (dsmc.kernels.sample.N_MOMENTS)
+INTERNAL_COPY_BYTES = 8 + 4  # state(): copies of erot, vib
+MOMENTS = 15  # sampled moments per cell and species (dsmc.kernels.sample.N_MOMENTS)
 COLL_STATS = 2  # per-cell collision statistics (dsmc.kernels.collide.N_COLL_STATS)
 SORT_CHUNKS = 16  # histogram rows of the counting sort (int32 each; dsmc.kernels.sort)
 
@@ -123,10 +125,14 @@ def estimate(case, threads: int | None = None) -> Estimate:
     particles = int(math.ceil(case.numerics.particles_per_cell * cells))
     capacity = CAPACITY_FACTOR * particles + CAPACITY_EXTRA
     batches = int(case.run.batches)
-    species = 1
+    species = len(case.gas.all_species)
+    rot_dof, theta_vib = case.gas.relaxation_tables()[:2]
+    internal = bool(rot_dof.any() or theta_vib.any())
+    per_slot = BYTES_PER_PARTICLE + (INTERNAL_ARRAYS if internal else 0)
+    per_copy = COPY_BYTES_PER_PARTICLE + (INTERNAL_COPY_BYTES if internal else 0)
     memory = {
         "base": BASE_BYTES,
-        "particles": capacity * BYTES_PER_PARTICLE + particles * COPY_BYTES_PER_PARTICLE,
+        "particles": capacity * per_slot + particles * per_copy,
         "cells": cells * bytes_per_cell(species),
         "batches": batches * cells * bytes_per_batch_cell(species),
     }

@@ -79,8 +79,14 @@ class Simulation:
         self.replica = replica
         gas = case.gas
         self.grid = Grid1D(case.domain.length, case.domain.cells)
-        self.species = [gas.species]
+        self.species = list(gas.all_species)
+        self.mole_fractions = np.array(gas.mole_fractions, dtype=float)
         self.mass = np.array([s.mass for s in self.species])
+        # internal energy: rotational dof (int), theta_vib (K, 0 = off), relaxation probabilities
+        self.rot_dof, self.theta_vib, self.p_rot, self.p_vib, self.rot_tstar = \
+            gas.relaxation_tables()
+        self.rot_half = 0.5 * self.rot_dof.astype(float)
+        self.internal = bool(self.rot_dof.any() or self.theta_vib.any())  # any internal energy
         self.volume = self.grid.volumes
         n_target = case.numerics.particles_per_cell * self.grid.cells
         self.weight = 0.0  # real molecules per particle, set by _initialise
@@ -118,7 +124,7 @@ class Simulation:
         # sort starts: cells 0..nc-1, then the bin of removed particles (open sides)
         self._key_start = np.zeros(nc + 2, dtype=np.int64)
         self.cell_start = self._key_start[: nc + 1]
-        self.particles = Particles(int(1.2 * n_target) + 16, dim=1)
+        self.particles = Particles(int(1.2 * n_target) + 16, dim=1, internal=self.internal)
         # per-chunk counts of the sort keys: cells, then the removed-particle bin
         self._hist = np.zeros((SORT_CHUNKS, nc + 1), dtype=np.int32)
         self._wall_acc = np.zeros((self.move_state.shape[0], 2, N_WALL_ACC))
@@ -145,17 +151,22 @@ class Simulation:
     # ------------------------------------------------------------------ set-up
 
     def _pair_tables(self):
+        """``C``, ``1 - omega`` and ``alpha`` of every species pair
+        (:func:`dsmc.gas.kinetic.pair_parameters` combining rules)."""
         model = COLLISION_MODELS[self.case.gas.collision_model].name
         ns = len(self.species)
         c = np.empty((ns, ns))
         e = np.empty((ns, ns))
         a = np.empty((ns, ns))
-        for i, s in enumerate(self.species):
-            # like pairs only until mixtures are supported
-            C, exponent = kinetic.pair_constants(s, model)
-            c[i, i] = C
-            e[i, i] = 0.5 * exponent  # kernel raises g^2 to this power
-            a[i, i] = s.parameters(model)[2]
+        for i, si in enumerate(self.species):
+            for j, sj in enumerate(self.species):
+                m_r, d, omega, alpha, T_ref = kinetic.pair_parameters(si, sj, model)
+                if model == "hs":
+                    omega = 0.5
+                C, exponent = kinetic.pair_constants_for(m_r, d, omega, T_ref)
+                c[i, j] = C
+                e[i, j] = 0.5 * exponent  # kernel raises g^2 to this power
+                a[i, j] = alpha
         return c, e, a
 
     @property
@@ -167,12 +178,23 @@ class Simulation:
         gas = self.case.gas
         sp = gas.species
         T_max = max([gas.temperature] + [w.temperature for w in self.case.walls])
+        if len(self.species) == 1:
+            return {
+                "mean_free_path": float(kinetic.mean_free_path(sp, gas.temperature,
+                                                               gas.number_density, self.model)),
+                "mean_collision_time": float(kinetic.mean_collision_time(
+                    sp, gas.temperature, gas.number_density, self.model)),
+                "most_probable_speed": float(kinetic.most_probable_speed(T_max, sp.mass)),
+            }
+        # mixture: mean collision rate sum_i x_i nu_i, mean free path sum_i x_i c_bar_i / nu_i
+        x = self.mole_fractions
+        nu = kinetic.mixture_collision_rates(self.species, x, gas.temperature, gas.number_density,
+                                             self.model)
+        c_bar = kinetic.mean_speed(gas.temperature, self.mass)
         return {
-            "mean_free_path": float(kinetic.mean_free_path(sp, gas.temperature, gas.number_density,
-                                                           self.model)),
-            "mean_collision_time": float(kinetic.mean_collision_time(sp, gas.temperature,
-                                                                     gas.number_density, self.model)),
-            "most_probable_speed": float(kinetic.most_probable_speed(T_max, sp.mass)),
+            "mean_free_path": float(np.sum(x * c_bar / nu)),
+            "mean_collision_time": float(1.0 / np.sum(x * nu)),
+            "most_probable_speed": float(kinetic.most_probable_speed(T_max, self.mass.min())),
         }
 
     def auto_time_step(self) -> float:
@@ -240,9 +262,17 @@ class Simulation:
         fill_cells_1d(self.init_state, 0, start, self.grid.dx, sigma, np.ascontiguousarray(u),
                       p.pos, p.v)
         p.sp[:n] = 0
+        cell = np.repeat(np.arange(counts.size), counts)
+        if len(self.species) > 1:
+            # species drawn with the mole fractions; thermal speeds scaled to each mass
+            p.sp[:n] = np.searchsorted(np.cumsum(self.mole_fractions)[:-1], rng.random(n),
+                                       side="right")
+            scale = np.sqrt(self.mass[0] / self.mass[p.sp[:n]])
+            p.v[:n] = u[cell] + (p.v[:n] - u[cell]) * scale[:, None]
+        self._thermal_internal(rng, np.arange(n), T[cell])
         # initial (sigma g)_max: at a relative speed of 3 most probable relative speeds
-        g_ref = 3.0 * math.sqrt(4.0 * kinetic.K_B * max(T.max(), 1.0) / self.mass[0])
-        self.sgmax[:] = self.pair_c[0, 0] * g_ref ** (2.0 * self.pair_exp[0, 0])
+        g_ref = 3.0 * math.sqrt(4.0 * kinetic.K_B * max(T.max(), 1.0) / self.mass.min())
+        self.sgmax[:] = np.max(self.pair_c * g_ref ** (2.0 * self.pair_exp))
         self._sort()
 
     def initial_mean_density(self) -> float:
@@ -252,6 +282,26 @@ class Simulation:
         st, x_s = self.shock, self.case.shock.position
         down = self.grid.centers / self.grid.length >= x_s
         return float(np.mean(np.where(down, st.n2, st.n1)))
+
+    def _thermal_internal(self, rng, idx, T):
+        """Equilibrium internal energies at temperatures ``T`` for particles ``idx``:
+        rotational gamma(zeta_r/2, kT), vibrational level geometric in exp(-theta/T)."""
+        p = self.particles
+        if not p.internal:
+            return
+        p.erot[idx] = 0.0
+        p.vib[idx] = 0
+        if not self.rot_dof.any() and not self.theta_vib.any():
+            return
+        s = p.sp[idx]
+        dof = self.rot_dof[s]
+        rot = dof > 0
+        p.erot[idx[rot]] = rng.gamma(0.5 * dof[rot]) * kinetic.K_B * T[rot]
+        theta = self.theta_vib[s]
+        vib = theta > 0
+        if vib.any():
+            q = np.exp(-theta[vib] / T[vib])
+            p.vib[idx[vib]] = rng.geometric(1.0 - q) - 1
 
     def _reserve(self, n: int):
         p = self.particles
@@ -282,12 +332,33 @@ class Simulation:
         """Live particle velocities, shape (n, 3), m/s (a view)."""
         return self.particles.v[: self.particles.n]
 
-    def set_particles(self, positions: np.ndarray, velocities: np.ndarray):
-        """Replace all particles (positions (n,) or (n, 1) in [0, L], velocities (n, 3))."""
+    @property
+    def species_index(self) -> np.ndarray:
+        """Live particle species indices into :attr:`species` (a view)."""
+        return self.particles.sp[: self.particles.n]
+
+    @property
+    def rotational_energies(self) -> np.ndarray:
+        """Live particle rotational energies, J (a view: writes change the run)."""
+        return self.particles.erot[: self.particles.n]
+
+    @property
+    def vibrational_levels(self) -> np.ndarray:
+        """Live particle vibrational quantum levels (a view)."""
+        return self.particles.vib[: self.particles.n]
+
+    def set_particles(self, positions: np.ndarray, velocities: np.ndarray,
+                      species: np.ndarray | None = None, rotational_energies=None,
+                      vibrational_levels=None):
+        """Replace all particles (positions (n,) or (n, 1) in [0, L], velocities (n, 3);
+        optional species indices, rotational energies (J) and vibrational levels, else 0)."""
         pos = np.asarray(positions, dtype=float).reshape(-1, 1)
         vel = np.asarray(velocities, dtype=float).reshape(-1, 3)
         if pos.shape[0] != vel.shape[0]:
             raise ValueError("positions and velocities differ in length")
+        sp = np.zeros(pos.shape[0], dtype=int) if species is None else np.asarray(species)
+        if sp.shape != (pos.shape[0],) or np.any(sp < 0) or np.any(sp >= len(self.species)):
+            raise ValueError("species indices of the wrong length or out of range")
         if np.any(pos < 0) or np.any(pos > self.grid.length):
             raise ValueError("positions outside the domain")
         self._reserve(pos.shape[0])
@@ -295,7 +366,12 @@ class Simulation:
         p.n = pos.shape[0]
         p.pos[: p.n] = pos
         p.v[: p.n] = vel
-        p.sp[: p.n] = 0
+        p.sp[: p.n] = sp
+        if p.internal:
+            p.erot[: p.n] = 0.0 if rotational_energies is None else rotational_energies
+            p.vib[: p.n] = 0 if vibrational_levels is None else vibrational_levels
+        elif rotational_energies is not None or vibrational_levels is not None:
+            raise ValueError("internal energies given for a gas without internal modes")
         self._sort()
 
     # -------------------------------------------------------------------- loop
@@ -313,14 +389,16 @@ class Simulation:
 
     def _move(self):
         p = self.particles
-        move_1d(p.pos, p.v, p.sp, p.n, self.dt, self.grid.length, self.walls, self.mass,
-                self.move_state, BLOCK_SIZE, self._wall_acc, self.grid.cells, p.key, self._hist)
+        move_1d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, self.dt, self.grid.length, self.walls,
+                self.mass, self.rot_dof, self.theta_vib, self.move_state, BLOCK_SIZE,
+                self._wall_acc, self.grid.cells, p.key, self._hist)
 
     def _collide(self):
         p = self.particles
-        collide_ntc(p.pos, p.v, p.sp, self.cell_start, self.volume, self.weight, self.dt,
-                    self.sgmax, self.remainder, self.pair_c, self.pair_exp, self.pair_alpha,
-                    self.mass, self.coll_state, 0, self._coll)
+        collide_ntc(p.pos, p.v, p.sp, p.erot, p.vib, self.cell_start, self.volume, self.weight,
+                    self.dt, self.sgmax, self.remainder, self.pair_c, self.pair_exp,
+                    self.pair_alpha, self.mass, self.rot_half, self.theta_vib, self.p_rot,
+                    self.p_vib, self.rot_tstar, self.coll_state, 0, self._coll)
 
     # ------------------------------------------------------------ open sides
 
@@ -437,7 +515,8 @@ class Simulation:
             self._since_sample += 1
             take = self._since_sample >= self._interval
         if take and self._batch.samples % 2 == 0:
-            sample_cells(p.v, p.sp, self.cell_start, self._batch.moments)  # before collisions
+            sample_cells(p.v, p.sp, p.erot, p.vib, self.cell_start,
+                         self._batch.moments)  # before collisions
         self._collide()
         self.step_count += 1
         if sample:
@@ -448,7 +527,8 @@ class Simulation:
             b.steps += 1
             if take:
                 if b.samples % 2 == 1:
-                    sample_cells(p.v, p.sp, self.cell_start, b.moments)  # after collisions
+                    sample_cells(p.v, p.sp, p.erot, p.vib, self.cell_start,
+                                 b.moments)  # after collisions
                 b.samples += 1
                 self._since_sample = 0
         if self.shock is not None:
@@ -510,8 +590,7 @@ class Simulation:
         for name in self.target_quantities:
             if name in ("bulk_shear_stress", "bulk_heat_flux", "bulk_temperature"):
                 if f is None:
-                    f = stats.cell_fields(batch.moments, batch.samples, self.weight, self.volume,
-                                          self.mass)
+                    f = self._cell_fields(batch.moments, batch.samples)
                 if name == "bulk_shear_stress":
                     out.append(np.nanmean(f["pressure_tensor"][:, 0, 1]))
                 elif name == "bulk_heat_flux":
@@ -602,6 +681,7 @@ class Simulation:
         batches = self.batches + [self._batch]
         out = {
             "pos": p.pos[: p.n].copy(), "v": p.v[: p.n].copy(), "sp": p.sp[: p.n].copy(),
+            "erot": p.erot[: p.n].copy(), "vib": p.vib[: p.n].copy(),
             "phase": self.phase, "stop_reason": self.stop_reason,
             "steady_detected": int(self.steady_detected),
             "windows": np.array(self.windows, dtype=float).reshape(-1, self._win_sum.size),
@@ -627,6 +707,8 @@ class Simulation:
         p = self.particles
         p.n = n
         p.pos[:n], p.v[:n], p.sp[:n] = st["pos"], st["v"], st["sp"]
+        if p.internal:
+            p.erot[:n], p.vib[:n] = st["erot"], st["vib"]
         for k in self._STATE_ARRAYS:
             setattr(self, k, np.array(st[k], dtype=getattr(self, k).dtype))
         self._wall_acc = np.zeros((self.move_state.shape[0], 2, N_WALL_ACC))
@@ -652,17 +734,19 @@ class Simulation:
             raise RuntimeError("no samples taken: run or advance(..., sample=True) first")
         return batches
 
+    def _cell_fields(self, moments, samples):
+        return stats.cell_fields(moments, samples, self.weight, self.volume, self.mass,
+                                 self.rot_dof, self.theta_vib)
+
     def batch_fields(self) -> list[dict[str, np.ndarray]]:
         """Cell fields of each closed batch alone (for errors of derived quantities)."""
-        return [stats.cell_fields(b.moments, b.samples, self.weight, self.volume, self.mass)
-                for b in self._closed_batches()]
+        return [self._cell_fields(b.moments, b.samples) for b in self._closed_batches()]
 
     def fields(self) -> dict[str, tuple[np.ndarray, np.ndarray]]:
         """Cell fields as ``{name: (mean, standard error)}`` over the closed batches."""
         batches = self._closed_batches()
         per = self.batch_fields()
-        total = stats.cell_fields(sum(b.moments for b in batches), sum(b.samples for b in batches),
-                                  self.weight, self.volume, self.mass)
+        total = self._cell_fields(sum(b.moments for b in batches), sum(b.samples for b in batches))
         return {k: (total[k], stats.batch_error(np.stack([f[k] for f in per])))
                 for k in total}
 
@@ -830,6 +914,9 @@ def result_tree(sim: Simulation) -> dict:
             "@attrs": {"species": ";".join(s.name for s in sim.species),
                        "collision_model": sim.model},
             "mass": Data(sim.mass, "kg"),
+            "mole_fractions": Data(sim.mole_fractions, "1"),
+            "rotational_dof": Data(sim.rot_dof, "1"),
+            "vibrational_temperature": Data(sim.theta_vib, "K"),
         },
         "run": {
             "@attrs": {"seed": sim.seed, "threads": numba.get_num_threads(),

@@ -11,6 +11,22 @@ give (standard kinetic-theory definitions, e.g. Bird 1994 ch. 1;
   ``= W/(V n_samples) sum_s m_s S[v_i v_j] - rho u_i u_j``
 * translational temperatures ``T_i = P_ii / (n k)``, ``T = (T_x+T_y+T_z)/3``,
   scalar pressure ``p = tr(P)/3 = n k T``
+* internal energy (molecular gases): rotational temperature
+  ``T_rot = 2 sum_s S[e_r]_s / (k sum_s zeta_r,s N_s)``; vibrational
+  temperature of species s from its mean level, ``T_v,s = theta_s / ln(1 +
+  1/<i>_s)`` (harmonic oscillator), the mixture value the dof-weighted mean
+  ``sum_s N_s zeta_v,s T_v,s / sum_s N_s zeta_v,s`` with
+  ``zeta_v = 2 (theta/T_v) / (exp(theta/T_v) - 1)``; overall temperature
+  ``T_ov = (3 T + zeta_r T_rot + zeta_v T_vib) / (3 + zeta_r + zeta_v)`` with
+  the mean dof per molecule ``zeta_r = sum_s zeta_r,s N_s / N`` (likewise
+  zeta_v): the temperature of the equilibrium state of the same energy
+  (Bird 1994 eq. 1.35 and sec. 5.5, from memory); the heat flux below is the
+  translational part only;
+* per species (mixtures): ``n_s``, mean velocity ``u_s = S[v]_s / N_s``,
+  translational temperature about ``u_s``,
+  ``T_s = m_s (S[v^2]_s / N_s - |u_s|^2) / (3 k)``, mass fraction
+  ``rho_s / rho``; the mixture temperature ``T`` above uses the thermal
+  velocities about the mass-average ``u``;
 * heat flux ``q_i = 1/2 sum_s m_s n_s <c^2 c_i>_s`` with
   ``sum c^2 c_i = S[v^2 v_i] - 2 u_j S[v_j v_i] - u_i S[v^2] + 2 u_i u_j S[v_j]
   + u^2 S[v_i] - u^2 u_i N``.
@@ -41,6 +57,15 @@ FIELD_UNITS = {
     "pressure_tensor": "Pa",
     "heat_flux": "W/m^2",
     "particles_per_cell": "1",
+    "rotational_temperature": "K",
+    "vibrational_temperature": "K",
+    "overall_temperature": "K",
+    "species_number_density": "1/m^3",
+    "species_mass_fraction": "1",
+    "species_velocity": "m/s",
+    "species_temperature": "K",
+    "species_rotational_temperature": "K",
+    "species_vibrational_temperature": "K",
 }
 
 WALL_UNITS = {
@@ -61,10 +86,13 @@ def _second(S, i, j):
 
 
 def cell_fields(S: np.ndarray, n_samples: float, weight: float, volume: np.ndarray,
-                mass: np.ndarray) -> dict[str, np.ndarray]:
-    """Fields from summed moments ``S`` of shape (..., n_cells, n_species, 13).
+                mass: np.ndarray, rot_dof=None, theta_vib=None) -> dict[str, np.ndarray]:
+    """Fields from summed moments ``S`` of shape (..., n_cells, n_species, 15).
 
-    Leading axes (e.g. batches) are kept.  Empty cells give NaN.
+    Leading axes (e.g. batches) are kept.  Empty cells give NaN.  With
+    molecular species (``rot_dof`` per species, ``theta_vib`` per species in
+    K, 0 = vibration off) the internal temperatures are added; with several
+    species the per-species fields (shape (..., n_cells, n_species[, 3])).
     """
     S = np.asarray(S, dtype=float)
     m = np.asarray(mass, dtype=float)
@@ -91,7 +119,7 @@ def cell_fields(S: np.ndarray, n_samples: float, weight: float, volume: np.ndarr
                 uj = u[..., j][..., None]
                 acc = acc - 2.0 * uj * _second(S, i, j) + 2.0 * ui * uj * S[..., 1 + j]
             q[..., i] = 0.5 * (m * acc).sum(-1) * scale[:, 0]
-    return {
+    out = {
         "number_density": n,
         "mass_density": rho,
         "velocity": u,
@@ -102,6 +130,44 @@ def cell_fields(S: np.ndarray, n_samples: float, weight: float, volume: np.ndarr
         "heat_flux": q,
         "particles_per_cell": N.sum(-1) / n_samples,
     }
+    ns = m.size
+    zr = np.zeros(ns) if rot_dof is None else np.asarray(rot_dof, dtype=float)
+    th = np.zeros(ns) if theta_vib is None else np.asarray(theta_vib, dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        if zr.any() or th.any():
+            Ntot = N.sum(-1)
+            zeta_r = (N * zr).sum(-1) / Ntot
+            T_rot = 2.0 * S[..., 13].sum(-1) / (K_B * (N * zr).sum(-1))
+            Tv_s = np.where(th > 0, th / np.log1p(N / S[..., 14]), np.nan)
+            Tv_s = np.where((th > 0) & (S[..., 14] == 0) & (N > 0), 0.0, Tv_s)
+            zv_s = np.where((th > 0) & (Tv_s > 0), 2.0 * (th / Tv_s) / np.expm1(th / Tv_s), 0.0)
+            zv_sum = np.nansum(N * zv_s, -1)
+            T_vib = np.nansum(N * zv_s * np.nan_to_num(Tv_s), -1) / zv_sum
+            zeta_v = zv_sum / Ntot
+            tot = 3.0 * out["temperature"]
+            dof = 3.0 + 0.0 * tot
+            if zr.any():
+                out["rotational_temperature"] = T_rot
+                tot = tot + zeta_r * T_rot
+                dof = dof + zeta_r
+            if th.any():
+                out["vibrational_temperature"] = np.where(zv_sum > 0, T_vib, 0.0)
+                tot = tot + np.where(zv_sum > 0, zeta_v * T_vib, 0.0)
+                dof = dof + zeta_v
+            out["overall_temperature"] = tot / dof
+        if ns > 1:
+            us = np.stack([S[..., 1 + k] / N for k in range(3)], axis=-1)
+            out["species_number_density"] = n_s
+            out["species_mass_fraction"] = m * n_s / rho[..., None]
+            out["species_velocity"] = us
+            out["species_temperature"] = m * ((S[..., 4] + S[..., 5] + S[..., 6]) / N
+                                              - (us * us).sum(-1)) / (3.0 * K_B)
+            if zr.any():
+                out["species_rotational_temperature"] = np.where(
+                    zr > 0, 2.0 * S[..., 13] / (K_B * zr * N), np.nan)
+            if th.any():
+                out["species_vibrational_temperature"] = Tv_s
+    return out
 
 
 def wall_fields(acc: np.ndarray, duration: float, weight: float, area: float,

@@ -219,7 +219,7 @@ HAND = [(t, None) for t in SYNTAX] + [
     (mutated(("title", 3)), "title"),
     (mutated(("title", ["a"])), "title"),
     (mutated(("gas.species", 18)), "gas.species"),
-    (mutated(("gas.species", ["Ar"])), "gas.species"),
+    (mutated(("gas.species", ["Ar"])), "gas.mole_fractions"),  # a list is a mixture: fractions needed
     (mutated(("gas.collision_model", 1)), "gas.collision_model"),
     (mutated(("gas.temperature", "300")), "gas.temperature"),
     (mutated(("gas.temperature", True)), "gas.temperature"),
@@ -355,7 +355,11 @@ HAND = [(t, None) for t in SYNTAX] + [
     # unknown names
     (mutated(("gas.species", "argn")), "gas.species"),
     (mutated(("gas.species", "")), "gas.species"),
-    (mutated(("gas.species", "N2")), "gas.species"),  # molecular: refused until internal energy
+    (mutated(("gas.species", "CO2"), ("gas.vibration", True)), "gas.vibration"),  # 4 modes
+    (mutated(("gas.species", ["He", "Ar"])), "gas.mole_fractions"),  # fractions missing
+    (mutated(("gas.species", ["He", "Ar"]), ("gas.mole_fractions", [0.5, 0.6])),
+     "gas.mole_fractions"),
+    (mutated(("gas.species", ["He", "he"]), ("gas.mole_fractions", [0.5, 0.5])), "gas.species"),
     (mutated(("gas.collision_model", "VHS")), "gas.collision_model"),
     (mutated(("boundary.xmin.model", "Diffuse")), "boundary.xmin.model"),
     (mutated(("boundary.xmin.model", "")), "boundary.xmin.model"),

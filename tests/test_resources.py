@@ -65,7 +65,7 @@ def test_bytes_per_particle_and_cell_match_the_simulation():
     assert p.nbytes() == resources.PARTICLE_ARRAYS * p.capacity
     assert sim.n_particles == pytest.approx(est.particles, rel=0.05)
     state = sim.state()
-    assert sum(state[k].nbytes for k in ("pos", "v", "sp")) == (
+    assert sum(state[k].nbytes for k in ("pos", "v", "sp", "erot", "vib")) == (
         resources.COPY_BYTES_PER_PARTICLE * sim.n_particles)
     per_cell = [sim.sgmax, sim.remainder, sim.cell_start[1:], sim.volume, sim.coll_state,
                 sim._coll, sim._batch.moments, sim._batch.collisions,

@@ -12,22 +12,25 @@ from dsmc.simulation import BLOCK_SIZE, Simulation
 from tests.test_reproducibility import CASE
 
 
+@pytest.mark.parametrize("internal", [False, True])
 @pytest.mark.parametrize("n,n_keys", [(0, 3), (1, 1), (10, 3), (100_003, 17), (600_001, 25_000)])
-def test_scatter_is_the_stable_sort(n, n_keys):
+def test_scatter_is_the_stable_sort(n, n_keys, internal):
     rng = np.random.default_rng(n)
     key = rng.integers(0, n_keys, n).astype(np.int32)
     pos = rng.random((n, 1))
     v = rng.normal(size=(n, 3))
     sp = rng.integers(0, 3, n).astype(np.uint8)
+    ni = n if internal else 0  # internal energies are empty arrays for monatomic gases
+    erot = rng.random(ni)
+    vib = rng.integers(0, 5, ni).astype(np.int32)
     hist = np.zeros((SORT_CHUNKS, n_keys), dtype=np.int32)
     start = np.zeros(n_keys + 1, dtype=np.int64)
-    out = np.empty_like(pos), np.empty_like(v), np.empty_like(sp)
+    out = [np.empty_like(a) for a in (pos, v, sp, erot, vib)]
     histogram(key, n, n_keys, BLOCK_SIZE, hist)
-    scatter_sorted(key, n, n_keys, BLOCK_SIZE, hist, start, pos, v, sp, *out)
+    scatter_sorted(key, n, n_keys, BLOCK_SIZE, hist, start, pos, v, sp, erot, vib, *out)
     order = np.argsort(key, kind="stable")
-    assert np.array_equal(out[0], pos[order])
-    assert np.array_equal(out[1], v[order])
-    assert np.array_equal(out[2], sp[order])
+    for a, b in zip((pos, v, sp, erot, vib), out):
+        assert np.array_equal(b, a[order] if a.size else a)
     assert np.array_equal(start, np.concatenate([[0], np.cumsum(np.bincount(key, minlength=n_keys))]))
 
 

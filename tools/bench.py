@@ -309,7 +309,7 @@ def step_phases(sim, moments, walls, times):
     t1 = pc()
     sim._sort(counted=True)
     t2 = pc()
-    sample_cells(p.v, p.sp, sim.cell_start, moments)
+    sample_cells(p.v, p.sp, p.erot, p.vib, sim.cell_start, moments)
     t3 = pc()
     sim._collide()
     t4 = pc()

@@ -10,6 +10,15 @@ solution and Navier-Stokes-Fourier with slip/jump of :mod:`dsmc.analysis.limits`
 normal shock the Rankine-Hugoniot states and the inverse density thickness measured by Alsmeyer
 (1976), values from memory (``tests/test_shock.py``), on finer cells and longer runs than the
 tests.
+
+Molecular gases and mixtures (``--only internal`` runs these alone): rotational relaxation
+against the Jeans equation with the case's Z_rot; nitrogen conductivity from the shipped
+near-continuum Fourier gap against the Eucken relation and CoolProp; nitrogen viscosity from a
+near-continuum Couette gap against CoolProp; helium-argon viscosity from a Couette gap against
+the Chapman-Enskog mixture result (Hirschfelder, Curtiss and Bird 1954) and CoolProp.
+Transport coefficients are taken in the bulk (the middle half of the gap, more than 10 mean
+free paths from the walls): the gradient of a straight-line fit, the flux averaged (the heat
+flux from the two walls, which includes the internal energy; the shear stress from the cells).
 """
 
 from __future__ import annotations
@@ -28,6 +37,7 @@ from conftest import bulk_mean  # noqa: E402
 from test_collisions import BOX, _temperature  # noqa: E402
 from test_gap_limits import FM_CASE, FM_SETS, _slip_solution  # noqa: E402
 from test_shock import ALSMEYER_FROM_MEMORY, shock_text  # noqa: E402
+from test_internal_energy import parker_ratios, relaxation_numbers  # noqa: E402
 
 from dsmc.analysis import limits  # noqa: E402
 from dsmc.case import load_case, parse_case  # noqa: E402
@@ -129,19 +139,134 @@ def shock_structure(scale):
             ALSMEYER_FROM_MEMORY[mach])
 
 
+COUETTE = """
+title = "validation Couette gap"
+[gas]
+species = {species}
+{extra}
+collision_model = "{model}"
+temperature = {T}
+pressure = {p}
+[domain]
+length = {L}
+cells = {cells}
+[boundary.xmin]
+model = "diffuse"
+velocity = [0.0, {u_neg}, 0.0]
+[boundary.xmax]
+model = "diffuse"
+velocity = [0.0, {u}, 0.0]
+[initial]
+profile = "linear"
+[numerics]
+particles_per_cell = 40
+[run]
+seed = {seed}
+transient_steps = {transient}
+sample_steps = {steps}
+batches = 20
+"""
+
+
+def _bulk_fit(sim, gradient_of, flux_of):
+    """Flux / gradient in the middle half of the gap, per batch (for the error) and overall."""
+    x = sim.grid.centers
+    mid = (x > 0.25 * sim.grid.length) & (x < 0.75 * sim.grid.length)
+
+    def one(f):
+        slope = np.polyfit(x[mid], gradient_of(f)[mid], 1)[0]
+        return flux_of(f, mid) / slope
+
+    per = np.array([one(f) for f in sim.batch_fields()])
+    total = one({k: v[0] for k, v in sim.fields().items()})
+    return total, per.std(ddof=1) / math.sqrt(per.size)
+
+
+def _coolprop(prop, T, p, fluid):
+    try:
+        import CoolProp.CoolProp as CP
+    except ImportError:
+        return float("nan")
+    return CP.PropsSI(prop, "T", T, "P", p, fluid)
+
+
+def internal_energy(scale):
+    for species, model, extra, Z in (("N2", "vhs", "", 5.0), ("N2", "vss",
+                                     "rotational_collision_number = 10", 10.0),
+                                     ("CH4", "hs", "", 15.0)):
+        fits = relaxation_numbers(species, model, extra, seeds=range(1, 1 + 16 * scale))
+        row(f"rotational relaxation {species} {model}: Z_rot fit (Jeans 1904)", fits.mean(),
+            fits.std(ddof=1) / math.sqrt(fits.size), Z)
+
+    r = parker_ratios(range(1, 1 + 24 * scale))
+    row("rotational relaxation N2 Parker Z(T): slope / Jeans slope", r.mean(),
+        r.std(ddof=1) / math.sqrt(r.size), 1.0)
+
+    # nitrogen conductivity: the shipped near-continuum Fourier gap
+    case = load_case(ROOT / "cases" / "nitrogen-gap-fourier-continuum.toml")
+    case = case.with_run(sample_steps=case.run.sample_steps * 4 * scale)
+    sim = Simulation(case)
+    sim.run()
+    w = sim.wall_fields()
+    q = 0.5 * (w[1]["heat_flux"][0] - w[0]["heat_flux"][0])  # heat through the gap, W/m^2
+    q_rel_se = math.hypot(w[0]["heat_flux"][1], w[1]["heat_flux"][1]) / 2.0 / abs(q)
+    K, se = _bulk_fit(sim, lambda f: f["overall_temperature"], lambda f, mid: -q)
+    se = math.hypot(se, q_rel_se * K)
+    Tc = float(np.mean(sim.fields()["overall_temperature"][0][sim.grid.cells // 2 - 5:
+                                                             sim.grid.cells // 2 + 5]))
+    p = case.gas.pressure
+    sp = sim.species[0]
+    row(f"N2 conductivity at {Tc:.1f} K vs Eucken (model mu)", K, se,
+        float(kinetic.conductivity(sp, Tc, "vhs")))
+    row(f"N2 conductivity at {Tc:.1f} K vs CoolProp", K, se, _coolprop("L", Tc, p, "Nitrogen"))
+
+    # nitrogen viscosity: near-continuum Couette (2 um, 100 kPa, +-200 m/s)
+    sim = Simulation(parse_case(COUETTE.format(species='"N2"', extra="", model="vhs", T=300.0,
+                                               p=100e3, L=2.0e-6, cells=120, u=200.0,
+                                               u_neg=-200.0, seed=11, transient=3000,
+                                               steps=200000 * scale)))
+    sim.run()
+    mu, se = _bulk_fit(sim, lambda f: f["velocity"][:, 1],
+                       lambda f, mid: -np.mean(f["pressure_tensor"][mid, 0, 1]))
+    Tc = float(np.mean(sim.fields()["overall_temperature"][0][55:65]))
+    row(f"N2 viscosity at {Tc:.1f} K vs CoolProp", mu, se,
+        _coolprop("V", Tc, 100e3, "Nitrogen"))
+    row(f"N2 viscosity at {Tc:.1f} K vs VHS model mu", mu, se,
+        float(kinetic.viscosity(sim.species[0], Tc, "vhs")))
+
+    # helium-argon viscosity: near-continuum Couette (4 um, 100 kPa, +-200 m/s)
+    for model in ("vhs", "vss"):
+        sim = Simulation(parse_case(COUETTE.format(
+            species='["He", "Ar"]', extra="mole_fractions = [0.5, 0.5]", model=model, T=300.0,
+            p=100e3, L=4.0e-6, cells=150, u=200.0, u_neg=-200.0, seed=12, transient=4000,
+            steps=200000 * scale)))
+        sim.run()
+        mu, se = _bulk_fit(sim, lambda f: f["velocity"][:, 1],
+                           lambda f, mid: -np.mean(f["pressure_tensor"][mid, 0, 1]))
+        Tc = float(np.mean(sim.fields()["temperature"][0][70:80]))
+        x = float(np.mean(sim.species_index == 0))
+        row(f"He-Ar {model} x_He={x:.3f} viscosity vs Chapman-Enskog", mu, se,
+            kinetic.mixture_viscosity(sim.species, [x, 1 - x], Tc, model))
+        row(f"He-Ar {model} viscosity at {Tc:.1f} K vs CoolProp", mu, se,
+            _coolprop("V", Tc, 100e3, f"HEOS::Helium[{x:.6f}]&Argon[{1 - x:.6f}]"))
+
+
 def main():
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--threads", type=int, default=None)
     p.add_argument("--long", action="store_true", help="twice the sampling of every run")
+    p.add_argument("--only", choices=("internal",), help="run only the molecular-gas and mixture checks")
     args = p.parse_args()
     set_threads(args.threads)
     scale = 2 if args.long else 1
     print(f"{'check':58s} {'DSMC':>12s}    {'stderr':>9s}   {'reference':>16s}   {'dev':>7s}")
-    collision_rates(scale)
-    free_molecular(scale)
-    near_continuum(scale)
-    fourier_kn001(scale)
-    shock_structure(scale)
+    if args.only != "internal":
+        collision_rates(scale)
+        free_molecular(scale)
+        near_continuum(scale)
+        fourier_kn001(scale)
+        shock_structure(scale)
+    internal_energy(scale)
 
 
 if __name__ == "__main__":

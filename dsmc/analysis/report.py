@@ -128,6 +128,10 @@ def load(path) -> ResultData:
         species = str(gas["species"]).split(";")
         if len(species) != 1:
             raise UserError(f"{path}: {len(species)} species; the limits are for a simple gas")
+        if "rotational_dof" in tree["gas"] and np.any(np.asarray(value(tree, "gas/rotational_dof"))):
+            # the slip/jump limits and the cell heat flux are those of a monatomic gas
+            raise UserError(f"{path}: molecular gas '{species[0]}'; the limits are for a "
+                            "monatomic gas")
         edges = np.asarray(value(tree, "grid/x_edges"), dtype=float)
         P = np.asarray(value(tree, "fields/pressure_tensor"), dtype=float)
         P_se = np.asarray(value(tree, "fields/pressure_tensor_stderr"), dtype=float)

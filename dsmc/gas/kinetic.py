@@ -260,3 +260,218 @@ def gas_summary(sp: Species, T: float, p: float, length: float | None = None,
         out["length"] = (float(length), "m")
         out["Kn"] = (float(knudsen(mfp, length)), "")
     return out
+
+
+# --- Mixtures: unlike-pair parameters, collision rates, viscosity ------------
+
+def pair_parameters(a: Species, b: Species, model: str = "vhs"):
+    """``(m_r, d_ref, omega, alpha, T_ref)`` of the pair (a, b).
+
+    Combining rules of the VHS/VSS models (Bird 1994 sec. 4.3, eqs.
+    4.76-4.80, from memory): arithmetic means ``d_ab = (d_a + d_b)/2``,
+    ``omega_ab = (omega_a + omega_b)/2``, ``alpha_ab = (alpha_a + alpha_b)/2``,
+    with the reduced mass ``m_r = m_a m_b / (m_a + m_b)``.  The species table
+    has one T_ref (273 K) for all species; the pair takes their mean.  A like
+    pair gives the species' own values and ``m_r = m/2``.
+    """
+    da, wa, aa = a.parameters(model)
+    db, wb, ab = b.parameters(model)
+    m_r = a.mass * b.mass / (a.mass + b.mass)
+    return m_r, 0.5 * (da + db), 0.5 * (wa + wb), 0.5 * (aa + ab), 0.5 * (a.T_ref + b.T_ref)
+
+
+def viscosity_for(m, d_ref, omega, alpha, T_ref, T):
+    """Chapman-Enskog viscosity of a VSS gas of molecular mass ``m`` (see :func:`viscosity`)."""
+    mu_ref = (5.0 * (alpha + 1.0) * (alpha + 2.0) * math.sqrt(m * K_B * T_ref / math.pi)
+              / (4.0 * alpha * (5.0 - 2.0 * omega) * (7.0 - 2.0 * omega) * d_ref**2))
+    return mu_ref * (np.asarray(T, dtype=float) / T_ref) ** omega
+
+
+def pair_collision_rate(a: Species, b: Species, T, n_b, model: str = "vhs"):
+    """Collisions per second of one molecule of ``a`` with molecules of ``b`` (density n_b).
+
+    nu_ab = n_b <sigma_T g>_ab = 2 sqrt(pi) d_ab^2 n_b (T/T_ref)^(1-omega_ab)
+    sqrt(2 k T_ref / m_r) (Bird 1994 eq. 4.76, from memory), from the
+    Maxwellian average of :func:`total_cross_section` with the pair's reduced
+    mass; with ``m_r = m/2`` it is :func:`collision_rate`.
+    """
+    m_r, d, omega, _, T_ref = pair_parameters(a, b, model)
+    T = np.asarray(T, dtype=float)
+    return (2.0 * math.sqrt(math.pi) * d**2 * np.asarray(n_b, dtype=float)
+            * (T / T_ref) ** (1.0 - omega) * math.sqrt(2.0 * K_B * T_ref / m_r))
+
+
+def mixture_collision_rates(species, fractions, T, n, model: str = "vhs") -> np.ndarray:
+    """Collision rate of a molecule of each species in the mixture, 1/s (sum over partners)."""
+    return np.array([sum(float(pair_collision_rate(a, b, T, x * n, model))
+                         for b, x in zip(species, fractions)) for a in species])
+
+
+def mixture_viscosity(species, fractions, T: float, model: str = "vhs") -> float:
+    """Chapman-Enskog first-approximation viscosity of a mixture, Pa s.
+
+    Hirschfelder, Curtiss and Bird (1954), eqs. 8.2-21 to 8.2-24 (Chapman and
+    Cowling 1970, sec. 12.3), from memory:
+
+        mu = - det [[H, x], [x^T, 0]] / det H,
+        H_ii = x_i^2/mu_i + sum_{k != i} 2 x_i x_k / mu_ik * m_i m_k/(m_i + m_k)^2
+               * (5/(3 A*_ik) + m_k/m_i),
+        H_ij = - 2 x_i x_j / mu_ij * m_i m_j/(m_i + m_j)^2 * (5/(3 A*_ij) - 1),
+
+    where ``mu_ij`` is the viscosity of a fictitious pure gas of molecular
+    mass ``2 m_r`` with the i-j interaction (:func:`pair_parameters`,
+    :func:`viscosity_for`; ``mu_ii`` is the pure-gas viscosity) and
+    ``A*_ij = Omega(2,2)* / Omega(1,1)*``.  For the VSS model (VHS: alpha = 1)
+    the transport cross-sections are ``sigma_mu = 4 alpha sigma_T /
+    ((alpha+1)(alpha+2))`` and ``sigma_M = 2 sigma_T / (alpha + 1)``; with
+    ``sigma_T ~ g^(1-2 omega)`` the collision integrals give
+    ``Omega(2,2)/Omega(1,1) = (sigma_mu/sigma_M)(7/2 - omega)``, and divided
+    by the hard-sphere ratio 2, ``A* = alpha (7 - 2 omega) / (2 (alpha + 2))``
+    (1 for hard spheres).  ``T`` is a scalar.  One species gives its own
+    viscosity; the binary case equals HCB's explicit eq. 8.2-22 (tested).
+    """
+    x = np.asarray(fractions, dtype=float)
+    ns = len(species)
+    m = np.array([s.mass for s in species])
+    mu = np.empty((ns, ns))
+    A = np.empty((ns, ns))
+    for i, a in enumerate(species):
+        for j, b in enumerate(species):
+            m_r, d, omega, alpha, T_ref = pair_parameters(a, b, model)
+            if model == "hs":
+                omega = 0.5
+            mu[i, j] = viscosity_for(2.0 * m_r, d, omega, alpha, T_ref, float(T))
+            A[i, j] = alpha * (7.0 - 2.0 * omega) / (2.0 * (alpha + 2.0))
+    H = np.zeros((ns, ns))
+    for i in range(ns):
+        H[i, i] = x[i] ** 2 / mu[i, i]
+        for k in range(ns):
+            if k == i:
+                continue
+            f = 2.0 * x[i] * x[k] / mu[i, k] * m[i] * m[k] / (m[i] + m[k]) ** 2
+            H[i, i] += f * (5.0 / (3.0 * A[i, k]) + m[k] / m[i])
+            H[i, k] = -f * (5.0 / (3.0 * A[i, k]) - 1.0)
+    B = np.zeros((ns + 1, ns + 1))
+    B[:ns, :ns] = H
+    B[:ns, ns] = x
+    B[ns, :ns] = x
+    return float(-np.linalg.det(B) / np.linalg.det(H))
+
+
+def wilke_viscosity(species, fractions, T, model: str = "vhs"):
+    """Wilke's (1950) mixing rule, J. Chem. Phys. 18, 517 (from memory), as a cross-check:
+
+    mu = sum_i x_i mu_i / sum_j x_j phi_ij,
+    phi_ij = [1 + (mu_i/mu_j)^(1/2) (m_j/m_i)^(1/4)]^2 / [8 (1 + m_i/m_j)]^(1/2).
+    """
+    mus = [viscosity(s, T, model) for s in species]
+    total = 0.0
+    for si, xi, mi in zip(species, fractions, mus):
+        den = 0.0
+        for sj, xj, mj in zip(species, fractions, mus):
+            phi = ((1.0 + (mi / mj) ** 0.5 * (sj.mass / si.mass) ** 0.25) ** 2
+                   / (8.0 * (1.0 + si.mass / sj.mass)) ** 0.5)
+            den = den + xj * phi
+        total = total + xi * mi / den
+    return total
+
+
+# --- Internal energy ---------------------------------------------------------
+
+def translational_collision_dof(omega: float) -> float:
+    """zeta_t = 5 - 2 omega: squared terms of the relative translational energy of
+    colliding VHS pairs (Bird 1994 sec. 5.4, from memory; see dsmc.kernels.collide)."""
+    return 5.0 - 2.0 * omega
+
+
+def rotational_probability(Z_rot: float, rot_dof: int, omega_pair: float) -> float:
+    """Per-collision relaxation probability P that gives the continuum collision number
+    ``Z_rot`` with this program's Larsen-Borgnakke scheme:
+
+        P = (1 + zeta_r / zeta_t) / Z_rot,   zeta_t = 5 - 2 omega_pair
+
+    (derived in :mod:`dsmc.kernels.collide`; the same correction as Lumpkin,
+    Haas and Boyd 1991, Phys. Fluids A 3, 2282, from memory).  0 for atoms.
+    """
+    if rot_dof == 0 or Z_rot <= 0.0:
+        return 0.0
+    return (1.0 + rot_dof / translational_collision_dof(omega_pair)) / Z_rot
+
+
+#: Parker (1959) constants ``(Z_inf, T*)``: N2 values as commonly used with the formula
+#: (Parker 1959, Phys. Fluids 2, 449; Lumpkin, Haas and Boyd 1991), from memory.  Other
+#: species have none here.
+PARKER = {"N2": (18.1, 91.5)}
+
+
+def parker_rotational_number(T, Z_inf: float, T_star: float):
+    """Parker's (1959) continuum rotational collision number,
+
+    Z_rot(T) = Z_inf / (1 + (pi^(3/2)/2) sqrt(T*/T) + (pi + pi^2/4) T*/T)
+
+    (from memory).  For N2 (:data:`PARKER`) it gives about 4.3 at 300 K and
+    5.1 at 500 K.
+    """
+    r = T_star / np.asarray(T, dtype=float)
+    return Z_inf / (1.0 + 0.5 * math.pi**1.5 * np.sqrt(r) + (math.pi + 0.25 * math.pi**2) * r)
+
+
+def relaxation_tables(species, model: str, Z_rot=None, vibrating=(), Z_vib: float = 50.0):
+    """Per-species and per-pair tables of the internal-energy exchange.
+
+    Returns ``(rot_dof, theta_vib, p_rot, p_vib, rot_tstar)``: ``rot_dof[a]`` (int),
+    ``theta_vib[a]`` (K, 0 where vibration is off), and the probabilities
+    ``p_rot[a, b]`` / ``p_vib[a, b]`` that the molecule of species ``a``
+    relaxes in a collision with one of ``b`` (:func:`rotational_probability`
+    with the pair's omega; ``1/Z_vib`` for vibration).  ``Z_rot`` replaces the
+    species-table value of every molecular species when given; ``"parker"``
+    selects Parker's temperature-dependent number for every molecular species
+    (constants in :data:`PARKER`): ``p_rot`` then holds the value at ``Z_inf``
+    and ``rot_tstar[a] = T*`` (0 for constant ``Z_rot``), and the kernel scales it
+    with the cell temperature (the sum check below cannot cover every
+    temperature: the kernel caps it, see :mod:`dsmc.kernels.collide`); ``vibrating``
+    names the species whose single vibrational mode is active.  Raises
+    ``ValueError`` (one line) when a pair's probabilities add up to more
+    than 1, which the one-relaxation-per-collision scheme cannot represent.
+    """
+    ns = len(species)
+    rot_dof = np.array([s.rot_dof for s in species], dtype=np.int64)
+    theta = np.zeros(ns)
+    for k, s in enumerate(species):
+        if s.name in vibrating:
+            if len(s.vib_dof_char_T) != 1:
+                raise ValueError(f"vibration of '{s.name}' ({len(s.vib_dof_char_T)} modes) is not "
+                                 "supported: only molecules with one vibrational mode")
+            theta[k] = s.vib_dof_char_T[0]
+    if np.any(rot_dof > 3):
+        raise ValueError("more than 3 rotational degrees of freedom")
+    rot_tstar = np.zeros(ns)
+    parker = isinstance(Z_rot, str)
+    if parker:
+        for k, s in enumerate(species):
+            if s.rot_dof:
+                if s.name not in PARKER:
+                    raise ValueError(f"no Parker constants for '{s.name}' (known: "
+                                     f"{', '.join(PARKER)})")
+                rot_tstar[k] = PARKER[s.name][1]
+    p_rot = np.zeros((ns, ns))
+    p_vib = np.zeros((ns, ns))
+    for i, a in enumerate(species):
+        if parker:
+            Z = PARKER[a.name][0] if a.rot_dof else 0.0
+        else:
+            Z = a.Z_rot if Z_rot is None else float(Z_rot)
+        for j, b in enumerate(species):
+            omega = pair_parameters(a, b, model)[2] if model != "hs" else 0.5
+            p_rot[i, j] = rotational_probability(Z, a.rot_dof, omega)
+            p_vib[i, j] = 1.0 / Z_vib if theta[i] > 0.0 else 0.0
+    for i, a in enumerate(species):
+        for j, b in enumerate(species):
+            total = p_rot[i, j] + p_rot[j, i] + p_vib[i, j] + p_vib[j, i]
+            if total > 1.0 + 1e-12:
+                raise ValueError(
+                    f"relaxation probabilities of the pair {a.name}-{b.name} add up to {total:.3g} > 1 "
+                    f"(P_rot = (1 + zeta_r/zeta_t)/Z_rot per molecule): use a larger "
+                    f"rotational_collision_number (Z_rot of '{a.name}' is "
+                    f"{a.Z_rot if Z_rot is None else Z_rot:g})")
+    return rot_dof, theta, p_rot, p_vib, rot_tstar

@@ -34,6 +34,81 @@ again; those repeats carry nothing between layers.  Even with the last
 partner excluded, 8-particle subcells gave a conductivity 2.5 % low at
 dt = 0.14 tau_c and 4.3 % low at dt = 0.07 tau_c (the error grows as the step
 shrinks), and nearest neighbours in sorted order gave a viscosity 8 % high.
+
+Mixtures: one ``(sigma_T g)_max`` per cell covers every species pair, and
+both partners are drawn uniformly from all particles of the cell.  A pair
+(a, b) is then a candidate with probability ``N_a N_b / (N (N-1))`` per
+ordered choice and is accepted with ``(sigma_T g)_ab / (sigma_T g)_max``,
+so the expected number of a-b collisions per step is
+``N_a N_b F_N <sigma_T g>_ab dt / V`` for unlike and
+``N_a (N_a - 1) F_N <sigma_T g>_aa dt / (2 V)`` for like pairs: the NTC
+rates of every pair with the single running maximum.
+
+Internal energy: Larsen-Borgnakke (Borgnakke and Larsen 1975, J. Comput.
+Phys. 18, 405; Bird 1994 sec. 5.4 and 11.3).  In an accepted collision one
+particle at most exchanges energy with one internal mode ("prohibiting
+double relaxation", Lumpkin, Haas and Boyd 1991, Phys. Fluids A 3, 2282,
+from memory): a single uniform ``U`` picks vibration of the first particle
+if ``U < Pv_i``, of the second if below ``Pv_i + Pv_j``, then rotation of
+the first and of the second with ``Pr_i`` and ``Pr_j``, else an elastic
+collision.  The events are exclusive, so each happens with exactly its
+probability (the tables must give a sum <= 1; :mod:`dsmc.gas.kinetic`
+checks it).
+
+Rotation (continuous): the collision energy ``E_c = E_t + e_r`` (relative
+translational energy ``E_t = m_r g^2 / 2`` plus the relaxing particle's
+rotational energy) is redistributed.  In equilibrium the colliding pairs'
+``E_t`` is distributed with ``zeta_t = 5 - 2 omega_ab`` effective squared
+terms (density ~ ``E_t^(zeta_t/2 - 1) exp(-E_t/kT)``, the collision-weighted
+VHS distribution, Bird 1994 sec. 5.4 from memory; it follows from weighting
+the Maxwellian ``g^2 exp(-m_r g^2/2kT)`` by ``sigma_T g ~ g^(2 - 2 omega)``),
+and ``e_r`` with ``zeta_r`` (density ~ ``e_r^(zeta_r/2 - 1) exp(-e_r/kT)``).
+Given their sum ``E_c`` the fraction ``x = e_r / E_c`` of two independent
+gamma variables of shapes ``A = zeta_r/2`` and ``B = zeta_t/2 = 5/2 - omega``
+is Beta(A, B):
+
+    f(x) ~ x^(A - 1) (1 - x)^(B - 1).
+
+Drawing the post-collision ``x`` from it makes the collision satisfy detailed
+balance with the equilibrium state.  For diatomics (``A = 1``) it is
+inverted exactly, ``x = 1 - U^(1/B)``; otherwise it is sampled by
+acceptance-rejection with the ratio ``f(x)/f(x*)`` to its maximum at
+``x* = (A - 1)/(A + B - 2)`` (Bird's ratio method), accepted with
+probability ``(x/x*)^(A-1) ((1-x)/(1-x*))^(B-1)`` for uniform ``x``.
+
+Vibration (quantized harmonic oscillator, one mode of temperature
+``theta`` per molecule): ``E_c = E_t + i k theta``; a level ``i'`` is drawn
+uniformly from ``0 .. floor(E_c / k theta)`` and accepted with
+``(1 - i' k theta / E_c)^(B - 1)``, the ratio of the equilibrium
+probability ``~ (E_c - i' k theta)^(zeta_t/2 - 1)`` of the level given
+``E_c`` to its value at ``i' = 0`` (the discrete form of the same
+detailed-balance argument; Bergemann and Boyd 1994, from memory).
+
+The new relative speed is ``g' = sqrt(2 E_t' / m_r)`` and its direction is
+scattered as in an elastic collision (for VSS about the pre-collision
+direction), so momentum is conserved through the centre-of-mass velocity
+and total (translational + internal) energy through ``E_t' + e' = E_c``, both
+to round-off.
+
+Relaxation probability and the continuum collision number: with this
+scheme a molecule of rotational ``zeta_r`` that relaxes in a fraction ``P``
+of its collisions changes its mean rotational energy per collision by
+``P A B / (A + B) k (T_tr - T_rot)`` (from the means ``<E_t> = B k T_tr``
+and ``<e_r> = A k T_rot`` and ``<x> = A/(A+B)``), i.e.
+
+    dT_rot / d(collisions) = P B / (A + B) (T_tr - T_rot),
+
+the Jeans equation with ``Z_rot = (A + B) / (P B) = (1/P)(1 + zeta_r/zeta_t)``.
+The tables therefore hold ``P = (1 + zeta_r / zeta_t) / Z_rot`` for the
+continuum ``Z_rot`` of the species table or case file: the correction of
+Lumpkin, Haas and Boyd (1991) for this scheme, rederived here and checked by
+``tests/test_internal_energy.py``.  Vibration uses ``P = 1/Z_vib`` without a
+correction (the factor for the quantized mode depends on temperature).
+
+Temperature-dependent ``Z_rot`` (Parker 1959): the probability is
+re-evaluated in every cell and step from the cell's translational
+temperature, ``P = (1 + zeta_r/zeta_t) / Z_rot(T_cell)``.  Within a step it
+is constant, so each collision still satisfies detailed balance.
 """
 
 from __future__ import annotations
@@ -43,7 +118,7 @@ import math
 import numba as nb
 import numpy as np
 
-from dsmc.kernels.rng import uniform
+from dsmc.kernels.rng import uniform, uniform_open0
 
 N_COLL_STATS = 2  # accepted collisions, summed |x_i - x_j|
 # bound on the relative error of (g^2)^e evaluated in single precision for
@@ -52,6 +127,7 @@ N_COLL_STATS = 2  # accepted collisions, summed |x_i - x_j|
 # tests/test_collisions.py checks the bound on random g^2 and e.
 SG_FLOAT_MARGIN = 1e-4
 SG_FLOAT_MIN = 1e-30  # below this g^2 (float denormals) the double formula is used
+K_B = 1.380649e-23  # J/K, exact (SI 2019)
 
 
 @nb.njit(inline="always")
@@ -86,6 +162,54 @@ def _scatter(gx, gy, gz, g, alpha, state, s):
 
 
 @nb.njit(inline="always")
+def beta_fraction(A, B, state, s):
+    """A Beta(A, B) deviate, ``A >= 1``, ``B >= 1`` (see the module docstring)."""
+    if A == 1.0:
+        return 1.0 - uniform_open0(state, s) ** (1.0 / B)
+    xm = (A - 1.0) / (A + B - 2.0)
+    while True:
+        x = uniform(state, s)
+        ratio = (x / xm) ** (A - 1.0) * ((1.0 - x) / (1.0 - xm)) ** (B - 1.0)
+        if uniform(state, s) < ratio:
+            return x
+
+
+@nb.njit(inline="always")
+def vib_level(E_c, e_quantum, B, state, s):
+    """Post-collision level of a harmonic mode of quantum ``e_quantum`` (J)."""
+    i_max = int(E_c / e_quantum)
+    while True:
+        i = min(int(uniform(state, s) * (i_max + 1)), i_max)
+        if uniform(state, s) < (1.0 - i * e_quantum / E_c) ** (B - 1.0):
+            return i
+
+
+@nb.njit(inline="always")
+def parker_factor(T, T_star):
+    """``Z_inf / Z_rot(T)`` of Parker's (1959) formula (see :func:`dsmc.gas.kinetic.parker_rotational_number`)."""
+    r = T_star / max(T, 1e-300)
+    return 1.0 + 0.5 * math.pi**1.5 * math.sqrt(r) + (math.pi + 0.25 * math.pi**2) * r
+
+
+@nb.njit(inline="always")
+def cell_temperature(v, sp, mass, lo, hi):
+    """Translational temperature of particles ``lo .. hi-1`` about their mass-average velocity."""
+    m_sum = 0.0
+    px = 0.0
+    py = 0.0
+    pz = 0.0
+    e2 = 0.0
+    for i in range(lo, hi):
+        m = mass[sp[i]]
+        m_sum += m
+        px += m * v[i, 0]
+        py += m * v[i, 1]
+        pz += m * v[i, 2]
+        e2 += m * (v[i, 0] * v[i, 0] + v[i, 1] * v[i, 1] + v[i, 2] * v[i, 2])
+    return (e2 - (px * px + py * py + pz * pz) / m_sum) / (3.0 * K_B * (hi - lo))
+
+
+@nb.njit(inline="always")
 def _other(lo, m, i, state, s):
     """A uniformly chosen position of ``lo .. lo+m-1`` other than ``i`` (m >= 2)."""
     j = lo + min(int(uniform(state, s) * (m - 1)), m - 2)
@@ -93,25 +217,47 @@ def _other(lo, m, i, state, s):
 
 
 @nb.njit(parallel=True, cache=True)
-def collide_ntc(pos, v, sp, cell_start, volume, weight, dt, sgmax, remainder,
-                pair_c, pair_exp, pair_alpha, mass, state, stream0, stats):
+def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, remainder,
+                pair_c, pair_exp, pair_alpha, mass, rot_half, theta_vib, pair_prot, pair_pvib,
+                rot_tstar, state, stream0, stats):
     """Collide the particles of every cell for one step.
 
     ``pos`` (n, d) positions (only used for the collision-separation
-    statistic), ``v`` (n, 3) velocities, ``sp`` species indices,
+    statistic), ``v`` (n, 3) velocities, ``sp`` species indices, ``erot``
+    rotational energies (J) and ``vib`` vibrational levels (updated),
     ``cell_start`` (n_cells + 1) sorted cell ranges, ``volume`` cell volumes,
     ``weight`` real molecules per particle, ``sgmax`` / ``remainder`` per-cell
     NTC state (updated), ``pair_c[a, b]``, ``pair_exp[a, b] = 1 - omega_ab``,
-    ``pair_alpha[a, b]`` pair tables, ``mass[a]`` masses.  ``stats[c]`` gains
-    the accepted collisions and the summed pair separations.
+    ``pair_alpha[a, b]`` pair tables, ``mass[a]`` masses.  Per species:
+    ``rot_half[a] = zeta_r / 2``, ``theta_vib[a]`` the vibrational temperature
+    (K).  ``pair_prot[a, b]`` / ``pair_pvib[a, b]``: probability that the
+    particle of species ``a`` relaxes its rotation / vibration in a collision
+    with one of species ``b`` (0 switches the mode off).  ``rot_tstar[a] > 0``
+    makes species ``a``'s rotational probability temperature-dependent
+    (Parker): ``pair_prot[a, b]`` is then the value at ``Z_inf`` and is
+    multiplied by ``Z_inf / Z(T)`` at the cell's translational temperature
+    (:func:`parker_factor`); where the pair's probabilities would exceed 1 in
+    sum, the rotational ones are scaled down to fill the remainder.
+    ``stats[c]`` gains the accepted collisions and the summed pair separations.
     """
     n_cells = cell_start.size - 1
     dim = pos.shape[1]
+    ns = mass.size
+    variable = False
+    for a in range(ns):
+        if rot_tstar[a] > 0.0:
+            variable = True
     for c in nb.prange(n_cells):
         s0 = cell_start[c]
         nc = cell_start[c + 1] - s0
         if nc < 2 or volume[c] <= 0.0:
             continue
+        fac = np.ones(ns if variable else 1)  # Z_inf / Z(T_cell) per species
+        if variable:
+            T = cell_temperature(v, sp, mass, s0, s0 + nc)
+            for a in range(ns):
+                if rot_tstar[a] > 0.0:
+                    fac[a] = parker_factor(T, rot_tstar[a])
         st = stream0 + c
         sgm = sgmax[c]
         expected = 0.5 * nc * (nc - 1) * weight * sgm * dt / volume[c] + remainder[c]
@@ -153,6 +299,41 @@ def collide_ntc(pos, v, sp, cell_start, volume, weight, dt, sgmax, remainder,
             cz = fi * v[i, 2] + fj * v[j, 2]
             g = math.sqrt(g2)
             ox, oy, oz = _scatter(gx, gy, gz, g, pair_alpha[a, b], state, st)
+            pvi = pair_pvib[a, b]
+            pvj = pair_pvib[b, a]
+            pri = pair_prot[a, b]
+            prj = pair_prot[b, a]
+            if variable:
+                pri *= fac[a]
+                prj *= fac[b]
+            if pvi + pvj + pri + prj > 1.0:
+                cut = max(0.0, 1.0 - pvi - pvj) / (pri + prj)
+                pri *= cut
+                prj *= cut
+            if pvi + pvj + pri + prj > 0.0:
+                u = uniform(state, st)
+                if u < pvi + pvj + pri + prj:
+                    m_r = mi * fj
+                    et = 0.5 * m_r * g2
+                    B = 1.5 + pair_exp[a, b]
+                    if u < pvi + pvj:
+                        k = i if u < pvi else j
+                        eq = K_B * theta_vib[sp[k]]
+                        ec = et + vib[k] * eq
+                        lev = vib_level(ec, eq, B, state, st)
+                        vib[k] = lev
+                        et = ec - lev * eq
+                    else:
+                        k = i if u < pvi + pvj + pri else j
+                        ec = et + erot[k]
+                        er = ec * beta_fraction(rot_half[sp[k]], B, state, st)
+                        erot[k] = er
+                        et = ec - er
+                    if g > 0.0:
+                        scale = math.sqrt(max(et, 0.0) / (0.5 * m_r)) / g
+                        ox *= scale
+                        oy *= scale
+                        oz *= scale
             v[i, 0] = cx + fj * ox
             v[i, 1] = cy + fj * oy
             v[i, 2] = cz + fj * oz

@@ -7,7 +7,7 @@ new velocity, so several hits in one step are handled exactly.  What each wall
 receives (hits, momentum, energy) is accumulated per particle block and per
 wall into ``acc[block, wall, :]``:
 
-    0: hits   1..3: m (v_in - v_out)   4: m (|v_in|^2 - |v_out|^2) / 2
+    0: hits   1..3: m (v_in - v_out)   4: m (|v_in|^2 - |v_out|^2) / 2 + e_int,in - e_int,out
 
 An open side (model code ``OPEN``) removes the particle: it is counted as a
 hit with ``v_out = 0`` (so the accumulator holds the number, momentum and
@@ -25,7 +25,7 @@ import numba as nb
 import numpy as np
 
 from dsmc.kernels.sort import chunk_layout
-from dsmc.kernels.surfaces import OPEN, PERIODIC, W_MODEL, reflect
+from dsmc.kernels.surfaces import OPEN, PERIODIC, W_MODEL, reemit_internal, reflect
 
 N_WALL_ACC = 5
 # wall hits one particle may make in one step; reached only by absurd time steps, where the
@@ -34,30 +34,31 @@ MAX_HITS = 100_000
 
 
 @nb.njit(inline="always")
-def _hit(v, wall, nx, mass, state, b, acc_row):
+def _hit(v, wall, nx, mass, state, b, acc_row, erot, vib, i, rot_dof, theta_vib):
     e_in = v[0] * v[0] + v[1] * v[1] + v[2] * v[2]
     p0 = v[0]
     p1 = v[1]
     p2 = v[2]
-    reflect(v, nx, 0.0, wall, mass, state, b)
+    used = reflect(v, nx, 0.0, wall, mass, state, b)
+    de = reemit_internal(erot, vib, i, used, wall, rot_dof, theta_vib, state, b)
     acc_row[0] += 1.0
     acc_row[1] += mass * (p0 - v[0])
     acc_row[2] += mass * (p1 - v[1])
     acc_row[3] += mass * (p2 - v[2])
-    acc_row[4] += 0.5 * mass * (e_in - (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]))
+    acc_row[4] += 0.5 * mass * (e_in - (v[0] * v[0] + v[1] * v[1] + v[2] * v[2])) + de
 
 
 @nb.njit(inline="always")
-def _leave(v, mass, acc_row):
+def _leave(v, mass, e_int, acc_row):
     acc_row[0] += 1.0
     acc_row[1] += mass * v[0]
     acc_row[2] += mass * v[1]
     acc_row[3] += mass * v[2]
-    acc_row[4] += 0.5 * mass * (v[0] * v[0] + v[1] * v[1] + v[2] * v[2])
+    acc_row[4] += 0.5 * mass * (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]) + e_int
 
 
 @nb.njit(cache=True)
-def _fly(pos, v, i, dt, length, walls, m, state, b, acc):
+def _fly(pos, v, erot, vib, i, dt, length, walls, m, rot_dof, theta_vib, state, b, acc):
     """Flight of particle ``i`` that crosses a wall during the step: hit by hit.
     Returns the final position, -1 when the particle left through an open side."""
     vi = v[i]
@@ -66,22 +67,25 @@ def _fly(pos, v, i, dt, length, walls, m, state, b, acc):
     hits = 0
     open0 = int(walls[0, W_MODEL]) == OPEN
     open1 = int(walls[1, W_MODEL]) == OPEN
+    e_int = 0.0
+    if (open0 or open1) and (rot_dof > 0 or theta_vib > 0.0):
+        e_int = erot[i] + vib[i] * 1.380649e-23 * theta_vib
     while True:
         xn = xi + vi[0] * t
         if xn < 0.0 and open0:
-            _leave(vi, m, acc[b, 0])
+            _leave(vi, m, e_int, acc[b, 0])
             return -1.0
         elif xn > length and open1:
-            _leave(vi, m, acc[b, 1])
+            _leave(vi, m, e_int, acc[b, 1])
             return -1.0
         elif xn < 0.0:
             t -= xi / (-vi[0])
             xi = 0.0
-            _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0])
+            _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0], erot, vib, i, rot_dof, theta_vib)
         elif xn > length:
             t -= (length - xi) / vi[0]
             xi = length
-            _hit(vi, walls[1], -1.0, m, state, b, acc[b, 1])
+            _hit(vi, walls[1], -1.0, m, state, b, acc[b, 1], erot, vib, i, rot_dof, theta_vib)
         else:
             xi = xn
             break
@@ -92,14 +96,17 @@ def _fly(pos, v, i, dt, length, walls, m, state, b, acc):
 
 
 @nb.njit(parallel=True, cache=True)
-def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc, n_cells, key, hist):
+def move_1d(pos, v, sp, erot, vib, n, dt, length, walls, mass, rot_dof, theta_vib, state,
+            block_size, acc, n_cells, key, hist):
     """Advance particles ``0..n-1`` of a 1-D slab ``0 <= x <= length`` by ``dt``.
 
     ``pos`` has shape (n, 1); ``v`` (n, 3).
 
     ``walls`` has two rows (x = 0, x = length); a periodic pair wraps instead.
-    ``mass[sp[i]]`` is the molecular mass of particle ``i``.  ``acc`` has shape
-    ``(n_blocks, 2, N_WALL_ACC)`` and is overwritten.
+    ``mass[sp[i]]`` is the molecular mass of particle ``i``; ``erot`` / ``vib``
+    its internal energy (empty arrays when no species has any), re-emitted
+    with ``rot_dof[sp[i]]`` (int) and ``theta_vib[sp[i]]`` (K, 0 = off).
+    ``acc`` has shape ``(n_blocks, 2, N_WALL_ACC)`` and is overwritten.
 
     The new cell of each particle (``n_cells`` uniform cells; ``n_cells`` for
     a removed one) goes to ``key[i]``, and ``hist`` (``n_cells + 1`` columns)
@@ -126,7 +133,9 @@ def move_1d(pos, v, sp, n, dt, length, walls, mass, state, block_size, acc, n_ce
                 if periodic:
                     x = x % length
                 elif x < 0.0 or x > length:
-                    x = _fly(pos, v, i, dt, length, walls, mass[sp[i]], state, b, acc)
+                    si = sp[i]
+                    x = _fly(pos, v, erot, vib, i, dt, length, walls, mass[si], rot_dof[si],
+                             theta_vib[si], state, b, acc)
                 pos[i, 0] = x
                 if x < 0.0:  # left through an open side
                     k = n_cells

@@ -5,6 +5,7 @@ the cell (sorted order), the raw moments
 
     0: count   1-3: v_x, v_y, v_z   4-6: v_x^2, v_y^2, v_z^2
     7: v_x v_y   8: v_x v_z   9: v_y v_z   10-12: |v|^2 v_x, |v|^2 v_y, |v|^2 v_z
+    13: rotational energy e_r (J)   14: vibrational level i
 
 from which :mod:`dsmc.stats` forms density, velocity, pressure tensor,
 temperatures and heat flux.
@@ -14,23 +15,26 @@ from __future__ import annotations
 
 import numba as nb
 
-N_MOMENTS = 13
+N_MOMENTS = 15
 
 
 @nb.njit(parallel=True, cache=True)
-def sample_cells(v, sp, cell_start, acc):
-    """Add the raw moments of every cell to ``acc`` (n_cells, n_species, 13).
+def sample_cells(v, sp, erot, vib, cell_start, acc):
+    """Add the raw moments of every cell to ``acc`` (n_cells, n_species, 15).
 
-    Sums are kept in scalars over a cell and species and added to ``acc``
-    once: indexing ``acc`` per particle cost 7.2 ns per particle, the scalar
-    sums 4.3 ns (one thread, 1e6 particles, 40 per cell).  With several
-    species each cell is read once per species.
+    ``erot``/``vib`` are empty when no species has internal energy (moments
+    13 and 14 stay zero).  Sums are kept in scalars over a cell and species
+    and added to ``acc`` once: indexing ``acc`` per particle cost 7.2 ns per
+    particle, the scalar sums 4.3 ns (one thread, 1e6 particles, 40 per
+    cell).  With several species each cell is read once per species.
     """
     n_cells = cell_start.size - 1
     n_species = acc.shape[1]
+    internal = erot.size > 0
     for c in nb.prange(n_cells):
         for s in range(n_species):
             m0 = m1 = m2 = m3 = m4 = m5 = m6 = m7 = m8 = m9 = m10 = m11 = m12 = 0.0
+            m13 = m14 = 0.0
             for i in range(cell_start[c], cell_start[c + 1]):
                 if n_species > 1 and sp[i] != s:
                     continue
@@ -51,6 +55,9 @@ def sample_cells(v, sp, cell_start, acc):
                 m10 += v2 * vx
                 m11 += v2 * vy
                 m12 += v2 * vz
+                if internal:
+                    m13 += erot[i]
+                    m14 += vib[i]
             a = acc[c, s]
             a[0] += m0
             a[1] += m1
@@ -65,3 +72,5 @@ def sample_cells(v, sp, cell_start, acc):
             a[10] += m10
             a[11] += m11
             a[12] += m12
+            a[13] += m13
+            a[14] += m14

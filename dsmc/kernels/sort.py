@@ -72,12 +72,14 @@ def histogram(key, n, n_keys, block_size, hist):
 
 
 @nb.njit(parallel=True, cache=True)
-def scatter_sorted(key, n, n_keys, block_size, hist, start, pos, v, sp, pos_out, v_out, sp_out):
+def scatter_sorted(key, n, n_keys, block_size, hist, start, pos, v, sp, erot, vib,
+                   pos_out, v_out, sp_out, erot_out, vib_out):
     """Write particles ``0..n-1`` in stable key order into the ``*_out`` arrays.
 
     ``hist`` is the per-chunk histogram of :func:`histogram` (overwritten by
     the chunk offsets); ``start`` (length ``n_keys + 1``) receives the first
-    sorted position of each key.
+    sorted position of each key.  ``erot``/``vib`` (internal energies) are
+    moved too unless they are empty (monatomic gases).
     """
     n_chunks, size = chunk_layout(n, block_size)
     start[0] = 0
@@ -93,6 +95,7 @@ def scatter_sorted(key, n, n_keys, block_size, hist, start, pos, v, sp, pos_out,
             hist[ch, k] = p
             p += c
     dim = pos.shape[1]
+    internal = erot.size > 0
     for ch in nb.prange(n_chunks):
         fill = hist[ch]
         for i in range(ch * size, min(n, (ch + 1) * size)):
@@ -105,3 +108,6 @@ def scatter_sorted(key, n, n_keys, block_size, hist, start, pos, v, sp, pos_out,
             v_out[j, 1] = v[i, 1]
             v_out[j, 2] = v[i, 2]
             sp_out[j] = sp[i]
+            if internal:
+                erot_out[j] = erot[i]
+                vib_out[j] = vib[i]

@@ -23,6 +23,35 @@ Velocities relative to the wall, ``c = v - u_wall``, are re-emitted by:
   ``alpha_t = sigma_t (2 - sigma_t)`` relates it to the tangential momentum
   accommodation ``sigma_t``.  ``alpha_n = alpha_t = 1`` is diffuse, 0 is specular.
 
+Internal energy (:func:`reemit_internal`, called right after :func:`reflect`
+with the model that :func:`reflect` actually applied):
+
+* specular: rotational energy and vibrational level kept;
+* diffuse: both drawn from their equilibrium distributions at the wall
+  temperature, independently of the velocity (internal and translational
+  energy are independent in equilibrium, so the re-emitted flux carries the
+  volume distribution, not a flux-weighted one): ``e_r`` gamma-distributed
+  with shape ``zeta_r/2`` and scale ``k T_w``, sampled as a sum of
+  ``-k T_w ln U`` terms (one per pair of rotational degrees of freedom) plus
+  ``k T_w N^2 / 2`` for an odd one; level ``i`` geometric,
+  ``P(i) = (1 - q) q^i`` with ``q = exp(-theta/T_w)``, sampled as
+  ``floor(ln U / ln q)``;
+* Maxwell: the same random choice as the velocity: a diffusely re-emitted
+  molecule is diffuse in its internal modes too, a specular one keeps them;
+* CLL, this program's model (an extension in the spirit of Lord 1991): the
+  rotational energy is written as ``e_r = k T_w |w|^2`` with ``w`` a vector
+  of ``zeta_r`` components of random direction, each component is
+  re-emitted by the one-dimensional Cercignani-Lampis kernel
+  ``w' = sqrt(1 - alpha_n) w + sqrt(alpha_n / 2) N`` with the *normal*
+  accommodation ``alpha_n``, and ``e_r' = k T_w |w'|^2``.  For
+  ``zeta_r = 2`` this is Lord's rotational kernel
+  ``e_r'/kT_w = r^2 + s^2 + 2 r s cos th``, ``r^2 = -alpha_n ln U``,
+  ``s^2 = (1-alpha_n) e_r/kT_w``.  The Gaussian update is reversible with
+  respect to the equilibrium distribution at ``T_w``, so the kernel obeys
+  reciprocity; ``alpha_n = 1`` is diffuse, 0 keeps the energy.  The
+  vibrational level is re-sampled at the wall temperature with probability
+  ``alpha_n`` and kept otherwise (a choice of this program).
+
 Adding a model: a new code here, its branch in :func:`reflect`, and its row
 builder in :mod:`dsmc.models`.
 """
@@ -68,6 +97,8 @@ def reflect(v, nx, ny, wall, mass, state, s):
 
     ``wall`` is one wall row, ``(nx, ny)`` the unit normal into the gas,
     ``mass`` the molecular mass (kg), ``state``/``s`` the random stream.
+    Returns the model applied (a Maxwell wall returns DIFFUSE or SPECULAR),
+    for :func:`reemit_internal`.
     """
     model = int(wall[W_MODEL])
     ux = wall[W_UX]
@@ -104,3 +135,66 @@ def reflect(v, nx, ny, wall, mass, state, s):
     v[0] = ux + cn * nx - c1 * ny
     v[1] = uy + cn * ny + c1 * nx
     v[2] = uz + c2
+    return model
+
+
+@nb.njit(cache=True)
+def reemit_internal(erot, vib, i, model, wall, rot_dof, theta_vib, state, s):
+    """Re-emit the internal energy of particle ``i`` after :func:`reflect`.
+
+    ``model`` is what :func:`reflect` returned, ``rot_dof`` the particle's
+    rotational degrees of freedom, ``theta_vib`` its vibrational temperature
+    (0: vibration off).  ``erot``/``vib`` are updated; returns the internal
+    energy given to the wall (J).
+    """
+    if rot_dof == 0 and theta_vib == 0.0:
+        return 0.0
+    if model == SPECULAR:
+        return 0.0
+    kt = 1.380649e-23 * wall[W_T]
+    e_in = erot[i] + vib[i] * 1.380649e-23 * theta_vib
+    diffuse = model == DIFFUSE
+    if model == CLL:
+        an = wall[W_ALPHA_N]
+        if rot_dof > 0:
+            # w: rot_dof components of random direction with |w|^2 = e_r / kT_w
+            # (rot_dof <= 3 is checked where the species tables are built)
+            w0 = normal(state, s)
+            w1 = normal(state, s) if rot_dof > 1 else 0.0
+            w2 = normal(state, s) if rot_dof > 2 else 0.0
+            norm2 = w0 * w0 + w1 * w1 + w2 * w2
+            scale = math.sqrt(1.0 - an) * math.sqrt(erot[i] / (kt * norm2)) if norm2 > 0.0 else 0.0
+            add = math.sqrt(0.5 * an)
+            e = 0.0
+            for k in range(rot_dof):
+                wk = w0 if k == 0 else (w1 if k == 1 else w2)
+                wk = scale * wk + add * normal(state, s)
+                e += wk * wk
+            erot[i] = kt * e
+        if theta_vib > 0.0 and uniform(state, s) < an:
+            vib[i] = _thermal_level(wall[W_T], theta_vib, state, s)
+    elif diffuse:
+        if rot_dof > 0:
+            erot[i] = thermal_rotational(kt, rot_dof, state, s)
+        if theta_vib > 0.0:
+            vib[i] = _thermal_level(wall[W_T], theta_vib, state, s)
+    return e_in - (erot[i] + vib[i] * 1.380649e-23 * theta_vib)
+
+
+@nb.njit(inline="always")
+def thermal_rotational(kt, rot_dof, state, s):
+    """Equilibrium rotational energy at ``kT = kt``: gamma(rot_dof/2, kt)."""
+    e = 0.0
+    for _ in range(rot_dof // 2):
+        e -= math.log(uniform_open0(state, s))
+    if rot_dof % 2 == 1:
+        z = normal(state, s)
+        e += 0.5 * z * z
+    return kt * e
+
+
+@nb.njit(inline="always")
+def _thermal_level(T, theta, state, s):
+    """Equilibrium harmonic-oscillator level at ``T``: geometric in ``exp(-theta/T)``."""
+    lnq = -theta / T
+    return int(math.floor(math.log(uniform_open0(state, s)) / lnq))
