@@ -257,3 +257,14 @@ def test_open_side_run_continues_bit_identically_from_its_state():
     a, b = second.open_side_fluxes(), whole.open_side_fluxes()
     assert np.array_equal(a[1]["outflow_energy_flux"][0], b[1]["outflow_energy_flux"][0])
     assert second.shock_shift == whole.shock_shift
+
+
+def test_compare_refuses_a_result_with_open_sides(tmp_path, capsys):
+    from dsmc.cli import main
+    from dsmc.io.results import write_results
+
+    res = write_results(tmp_path / "shock.h5", result_tree(run(3.0)))
+    assert main(["compare", str(res)]) == 2
+    err = capsys.readouterr().err
+    assert "xmin is an open side ('inflow'): the gap limits need two walls" in err
+    assert len(err.splitlines()) == 1
