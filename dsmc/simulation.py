@@ -713,13 +713,17 @@ class Simulation:
         batches = self._closed_batches()
         per = self.batch_fields()
         dens = np.stack([f["number_density"] for f in per])
-        delta, err, x_peak = thickness_with_error(self.grid.centers, dens,
-                                                  np.array([b.samples for b in batches]),
-                                                  st.n1, st.n2)
         sp = self.case.gas.species
         lam1 = upstream_mean_free_path(float(kinetic.viscosity(sp, st.T1, self.model)), st.n1,
                                        st.T1, sp.mass)
+        # slope fit over about 2 lambda1 (at least 7 cells), whatever the cell size: short next
+        # to the thickness (3.5 lambda1 or more for argon), long enough to average the noise
+        half = max(3, int(round(lam1 / self.grid.dx)))
+        delta, err, x_peak = thickness_with_error(self.grid.centers, dens,
+                                                  np.array([b.samples for b in batches]),
+                                                  st.n1, st.n2, half)
         return {"states": st, "thickness": (delta, err), "x_shock": x_peak,
+                "slope_window": (2 * half + 1) * self.grid.dx,
                 "mean_free_path_upstream": lam1,
                 "inverse_density_thickness": (lam1 / delta, lam1 * err / delta**2)}
 
@@ -920,6 +924,7 @@ def shock_tree(sim: Simulation, fields) -> dict:
         "inverse_density_thickness": Data(s["inverse_density_thickness"][0], "1"),
         "inverse_density_thickness_stderr": Data(s["inverse_density_thickness"][1], "1"),
         "x_shock": Data(s["x_shock"], "m"),
+        "slope_window": Data(s["slope_window"], "m"),
         "x": Data(sim.grid.centers - s["x_shock"], "m"),
         "normal_temperature": Data(Tc[:, 0], "K"),
         "normal_temperature_stderr": Data(Tc_err[:, 0], "K"),
