@@ -232,6 +232,8 @@ def test_mach_sweep_through_the_sweep_verb(tmp_path, capsys):
     assert main(["sweep", str(CASES_DIR / "sweep-shuttle-gap-couette.toml"), "--machs", "2",
                  "--out", str(tmp_path / "x")]) == 2
     assert "needs a base case with a [shock] section" in capsys.readouterr().err
+    assert main(["sweep", str(base), "--pressures", "1,2", "--out", str(tmp_path / "y")]) == 2
+    assert "a Knudsen sweep needs two walls" in capsys.readouterr().err
 
 
 def test_open_side_run_continues_bit_identically_from_its_state():
