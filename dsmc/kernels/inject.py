@@ -31,12 +31,13 @@ Check: for ``s = 0, u_t = 0``, ``N' = n c_mean/4`` and ``E' = 2 k T N'``
 
 Sampling the normal velocity exactly, for any ``s``: the density of ``x`` is
 ``f(x) ~ x exp(-(x - s)^2)`` on ``x > 0``.  (Garcia and Wagner 2006, J.
-Comput. Phys. 217, 693, give an acceptance-rejection scheme; the one below
-is derived here.)
+Comput. Phys. 217, 693 -- citation from memory -- give an acceptance-rejection
+scheme; the one below is derived here.)
 
 * ``s <= 0``: propose ``x = sqrt(-ln U)`` (density ``2 x exp(-x^2)``); the
   ratio ``f/proposal ~ exp(2 x s) <= 1``, so accept with probability
-  ``exp(2 x s)``.
+  ``exp(2 x s)``.  Acceptance ``E[exp(2 x s)]`` falls like ``1/(2 s^2)`` for
+  large negative ``s``, where the flux itself vanishes like ``exp(-s^2)``.
 * ``s > 0``: with ``y = x - s``, ``x = s + y <= s + |y|``, so
   ``f <= (s + |y|) exp(-y^2)`` on the whole line.  That bound is a mixture of
   a normal ``y ~ N(0, 1/2)`` (weight ``sqrt(pi) s``) and a two-sided Rayleigh
