@@ -140,6 +140,11 @@ def sweep_cases(base_text: str, base_path: str = "<base>", pressures=None, gaps=
         dom["cells"] = int(cells)
         num = d.setdefault("numerics", {})
         num.pop("time_step", None)
+        # a point with fewer cells than the base keeps the base's particle count, so that the
+        # rarefied points (few cells) are not sampled with a fraction of the particles
+        base_particles = base.numerics.particles_per_cell * base.domain.cells
+        num["particles_per_cell"] = float(max(base.numerics.particles_per_cell,
+                                              base_particles / cells))
         dt = _auto_dt(base, sp, model, T_gas, T_max, n, L / cells)
         mu = float(kinetic.viscosity(sp, T_mean, model))
         rho = n * sp.mass
