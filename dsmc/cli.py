@@ -66,7 +66,7 @@ def cmd_run(args) -> int:
               f"M particle-steps/s); sampling from step {sim.transient_end_step}, "
               f"stopped by {sim.stop_reason}")
         _print_adequacy(figures, adequacy_warnings(figures))
-        for side, w, fl in zip(("xmin", "xmax"), sim.wall_fields(), sim.open_side_fluxes()):
+        for side, w, fl in zip(sim.grid.sides, sim.wall_fields(), sim.open_side_fluxes()):
             if fl is not None:
                 fin, fin_se = fl["inflow_number_flux"]
                 fout, fout_se = fl["outflow_number_flux"]
@@ -76,8 +76,9 @@ def cmd_run(args) -> int:
             tau, tau_se = w["shear_stress"]
             q, q_se = w["heat_flux"]
             p, p_se = w["pressure"]
-            print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_y {tau[1]:.5g} +- "
-                  f"{tau_se[1]:.2g} Pa, heat flux into wall {q:.5g} +- {q_se:.2g} W/m^2")
+            k = 0 if side[0] == "y" else 1  # the in-plane tangential component
+            print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_{'xy'[k]} {tau[k]:.5g} +- "
+                  f"{tau_se[k]:.2g} Pa, heat flux into wall {q:.5g} +- {q_se:.2g} W/m^2")
         if sim.shock is not None:
             s = sim.shock_profile()
             v, v_se = s["inverse_density_thickness"]

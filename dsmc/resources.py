@@ -121,7 +121,7 @@ def default_threads() -> int:
 
 def estimate(case, threads: int | None = None) -> Estimate:
     """Memory and run-time estimate of ``case`` (a :class:`dsmc.case.Case`)."""
-    cells = int(case.domain.cells)
+    cells = int(case.domain.n_cells)
     particles = int(math.ceil(case.numerics.particles_per_cell * cells))
     capacity = CAPACITY_FACTOR * particles + CAPACITY_EXTRA
     batches = int(case.run.batches)
