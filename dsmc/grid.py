@@ -4,8 +4,8 @@ Both grids offer the interface the simulation uses: ``cells`` (total number
 of cells), ``shape`` (cells per axis, x first), ``volumes``, ``centers``
 (``(cells,)`` in 1-D, ``(cells, 2)`` in 2-D), ``dim``, ``sides`` (side names
 in wall-row order), ``normals`` (unit normal into the gas of each side, as
-``(nx, ny)``), ``side_areas`` (m^2 of each side), ``cell_size`` (smallest cell
-edge) and ``reference_length`` (smallest domain extent, for the Knudsen number).
+``(nx, ny)``), ``side_areas`` (m^2 of each side), ``extent`` (domain size per axis) and
+``cell_size`` (smallest cell edge).
 """
 
 from __future__ import annotations
@@ -76,11 +76,6 @@ class Grid1D:
     @property
     def cell_size(self) -> float:
         return self.dx
-
-    @property
-    def reference_length(self) -> float:
-        return self.length
-
 
 @dataclass(frozen=True)
 class Grid2D:
@@ -165,7 +160,3 @@ class Grid2D:
     @property
     def cell_size(self) -> float:
         return min(self.dx, self.dy)
-
-    @property
-    def reference_length(self) -> float:
-        return min(self.lx, self.ly)

@@ -866,6 +866,15 @@ class Simulation:
         return {"collision_rate": rate, "collisions": float(n_col),
                 "mean_collision_separation": mcs}
 
+    def reference_length(self) -> float:
+        """Length of the Knudsen number: the slab width in 1-D; in 2-D the smallest extent
+        between walls (a periodic axis is unbounded), or the smallest extent if both are."""
+        g = self.grid
+        if g.dim == 1:
+            return g.length
+        walled = [e for a, e in enumerate(g.extent) if self.case.walls[2 * a].model != "periodic"]
+        return min(walled or g.extent)
+
     def adequacy(self, measured: bool = False) -> dict[str, float]:
         """Numerical adequacy figures; with ``measured``, from the sampled run."""
         ref = self.reference_state()
@@ -875,7 +884,7 @@ class Simulation:
             "time_step_over_collision_time": self.dt / tau,
             "cell_transit_fraction": self.dt * ref["most_probable_speed"] / self.grid.cell_size,
             "particles_per_cell": self.n_particles / self.grid.cells,
-            "knudsen_number": lam / self.grid.reference_length,
+            "knudsen_number": lam / self.reference_length(),
         }
         if measured:
             f = self.fields()

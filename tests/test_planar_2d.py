@@ -1,0 +1,389 @@
+"""The 2-D planar engine: kernel geometry, invariants, equilibrium, Couette against 1-D, output.
+
+Sources of the outside values:
+
+* ideal-gas pressure on a wall of a closed box in equilibrium, ``p = n k T``, and the one-sided
+  number flux ``n sqrt(kT / (2 pi m))`` (Bird 1994, eq. 4.22 with zero drift; standard kinetic
+  theory);
+* k from scipy.constants (exact in the SI since 2019);
+* plane Couette flow is the same physical problem in both engines, so the 2-D box with a
+  periodic x axis must give the 1-D slab's wall shear stress and velocity profile (the 1-D
+  engine's own checks against published limits live in tests/test_gap_limits.py).
+"""
+
+from __future__ import annotations
+
+import xml.etree.ElementTree as ET
+
+import h5py
+import numba
+import numpy as np
+import pytest
+from scipy import constants
+
+from dsmc.case import parse_case
+from dsmc.errors import CaseError
+from dsmc.io.results import write_results
+from dsmc.io.xdmf import write_xdmf
+from dsmc.kernels.move import N_WALL_ACC, move_2d
+from dsmc.kernels.rng import new_streams
+from dsmc.kernels.sort import SORT_CHUNKS, keys_2d
+from dsmc.models import wall_row
+from dsmc.simulation import Simulation, result_tree
+
+K_B = constants.k
+
+
+@pytest.fixture(autouse=True, scope="module")
+def _one_thread():
+    """One kernel thread (runs are bit-identical at any thread count; see the test below)."""
+    n = numba.get_num_threads()
+    numba.set_num_threads(1)
+    yield
+    numba.set_num_threads(n)
+
+
+def box_case(walls: dict, *, length=(0.01, 0.008), cells=(10, 8), pressure=1.0, ppc=30,
+             transient=100, samples=400, batches=8, seed=3, time_step=None) -> str:
+    """Case text of an argon box with the given ``{side: 'key = value' lines}``."""
+    text = f"""
+[gas]
+species = "Ar"
+temperature = 300.0
+pressure = {pressure!r}
+[domain]
+length = [{length[0]!r}, {length[1]!r}]
+cells = [{cells[0]}, {cells[1]}]
+"""
+    for side in ("xmin", "xmax", "ymin", "ymax"):
+        text += f"[boundary.{side}]\n{walls[side]}\n"
+    text += f"""[numerics]
+particles_per_cell = {ppc}
+{'' if time_step is None else f'time_step = {time_step!r}'}
+[run]
+seed = {seed}
+transient_steps = {transient}
+sample_steps = {samples}
+batches = {batches}
+"""
+    return text
+
+
+SPECULAR = 'model = "specular"'
+DIFFUSE = 'model = "diffuse"'
+PERIODIC = 'model = "periodic"'
+
+
+# ---------------------------------------------------------------------------- kernel geometry
+
+
+def _move_one(pos, vel, dt, walls, nx=4, ny=4, lx=1.0, ly=1.0):
+    pos = np.array([pos], dtype=float)
+    v = np.array([vel], dtype=float)
+    acc = np.zeros((1, 4, N_WALL_ACC))
+    key = np.zeros(1, dtype=np.int32)
+    hist = np.zeros((SORT_CHUNKS, nx * ny + 1), dtype=np.int32)
+    state = new_streams(np.random.SeedSequence(1), 1)
+    move_2d(pos, v, np.zeros(1, dtype=np.uint8), np.zeros(0), np.zeros(0, dtype=np.int32), 1, dt,
+            lx, ly, walls, np.array([6.6e-26]), np.zeros(1, dtype=np.int64), np.zeros(1), state,
+            4096, acc, nx, ny, key, hist)
+    return pos[0], v[0], acc[0], key[0], hist[0]
+
+
+def test_specular_corner_hit_is_a_double_mirror():
+    """A particle flying into the corner (0, 0) leaves it with both in-plane components
+    reversed, at the doubly mirrored straight-line position; one hit on each of xmin, ymin."""
+    walls = np.array([wall_row("specular", 300.0, (0, 0, 0))] * 4)
+    pos, v, acc, key, hist = _move_one((0.25, 0.25), (-1.0, -1.0, 0.3), 0.5, walls)
+    assert np.allclose(pos, (0.25, 0.25), atol=1e-15)
+    assert np.array_equal(v, (1.0, 1.0, 0.3))
+    assert acc[0, 0] == 1.0 and acc[2, 0] == 1.0 and acc[1, 0] == 0.0 and acc[3, 0] == 0.0
+    assert key == 1 + 4 * 1 and hist[key] == 1 and hist.sum() == 1
+
+
+def test_several_hits_in_one_step_and_periodic_wrap():
+    """Specular x walls 1 m apart, periodic y: a flight of 3.3 m in x ends mirrored three times
+    (x = 0.3 + 3.3 -> 3.6 -> folded into [0, 1] as 0.4 moving back), y wraps modulo ly."""
+    walls = np.array([wall_row("specular", 300.0, (0, 0, 0))] * 2
+                     + [wall_row("periodic", 300.0, (0, 0, 0))] * 2)
+    pos, v, acc, key, _ = _move_one((0.3, 0.9), (3.3, 0.25, 0.0), 1.0, walls)
+    assert np.allclose(pos, (0.4, 0.15), atol=1e-12)
+    assert v[0] == -3.3 and v[1] == 0.25
+    assert acc[0, 0] + acc[1, 0] == 3.0 and acc[2, 0] == 0.0 and acc[3, 0] == 0.0
+    assert key == 1 + 4 * 0
+
+
+def test_keys_2d_flat_cell_index():
+    pos = np.array([[0.0, 0.0], [0.99, 0.0], [0.0, 0.99], [1.0, 1.0], [0.26, 0.51]])
+    key = np.zeros(5, dtype=np.int32)
+    keys_2d(pos, 5, 1.0, 1.0, 4, 2, key)
+    assert list(key) == [0, 3, 4, 7, 1 + 4 * 1]
+
+
+# ---------------------------------------------------------------------------- invariants
+
+
+@pytest.mark.parametrize("dt_factor", [1.0, 40.0])
+def test_random_box_invariants(dt_factor):
+    """Random wall models and speeds, normal and very long time steps (many hits per step):
+    no particle outside the box, the count kept, everything finite; and with four specular
+    walls the kinetic energy is kept to round-off."""
+    rng = np.random.default_rng(11)
+    models = ['model = "diffuse"\ntemperature = 350.0',
+              'model = "maxwell"\naccommodation = 0.4',
+              'model = "cll"\nnormal_accommodation = 0.3\ntangential_accommodation = 0.6',
+              SPECULAR]
+    walls = {}
+    for k, side in enumerate(("xmin", "xmax", "ymin", "ymax")):
+        m = models[rng.integers(len(models))]
+        speed = rng.uniform(-200, 200)
+        vel = [0.0, speed, 0.0] if k < 2 else [speed, 0.0, 0.0]
+        walls[side] = m + ("" if m == SPECULAR else f"\nvelocity = {vel!r}")
+    base = Simulation(parse_case(box_case(walls, ppc=10)))
+    dt = base.dt * dt_factor
+    for wall_set in (walls, {s: SPECULAR for s in walls}):
+        sim = Simulation(parse_case(box_case(wall_set, ppc=10, time_step=dt)))
+        n0 = sim.n_particles
+        e0 = float(np.sum(sim.velocities ** 2))
+        sim.advance(30)
+        pos = sim.positions
+        assert sim.n_particles == n0
+        assert np.all(np.isfinite(pos)) and np.all(np.isfinite(sim.velocities))
+        assert np.all(pos >= 0.0) and np.all(pos[:, 0] <= 0.01) and np.all(pos[:, 1] <= 0.008)
+        counts = np.diff(sim.cell_start)
+        assert counts.sum() == n0
+        if wall_set is not walls:
+            e1 = float(np.sum(sim.velocities ** 2))
+            assert abs(e1 - e0) / e0 < 1e-12
+
+
+def test_periodic_box_conserves_momentum_and_energy():
+    """Periodic on both axes: only collisions change velocities, and they conserve momentum
+    and energy (round-off)."""
+    sim = Simulation(parse_case(box_case({s: PERIODIC for s in ("xmin", "xmax", "ymin", "ymax")},
+                                         ppc=20)))
+    p0 = sim.velocities.sum(axis=0)
+    e0 = float(np.sum(sim.velocities ** 2))
+    scale = np.sqrt(e0 / sim.n_particles) * sim.n_particles
+    sim.advance(40)
+    assert np.all(np.abs(sim.velocities.sum(axis=0) - p0) < 1e-12 * scale)
+    assert abs(float(np.sum(sim.velocities ** 2)) - e0) / e0 < 1e-12
+
+
+# ---------------------------------------------------------------------------- equilibrium
+
+
+def test_equilibrium_box_pressure_and_wall_flux():
+    """Diffuse walls at the gas temperature: each side's pressure is n k T and its number flux
+    n sqrt(kT / (2 pi m)) (Bird 1994 eq. 4.22, zero drift), n = N W / V of the run."""
+    wall = 'model = "diffuse"\ntemperature = 300.0'
+    sim = Simulation(parse_case(box_case({s: wall for s in ("xmin", "xmax", "ymin", "ymax")},
+                                         ppc=40, transient=50, samples=1600, batches=16)))
+    sim.run()
+    n = sim.n_particles * sim.weight / sim.grid.volume
+    m = sim.mass[0]
+    p_ref = n * K_B * 300.0
+    flux_ref = n * np.sqrt(K_B * 300.0 / (2.0 * np.pi * m))
+    for side, w in zip(sim.grid.sides, sim.wall_fields()):
+        p, p_se = w["pressure"]
+        f, f_se = w["number_flux"]
+        assert p_se < 0.01 * p_ref and f_se < 0.01 * flux_ref, side
+        assert abs(p - p_ref) < 4.0 * p_se, (side, p, p_ref, p_se)
+        assert abs(f - flux_ref) < 4.0 * f_se, (side, f, flux_ref, f_se)
+
+
+# ---------------------------------------------------------------------------- Couette vs 1-D
+
+U = 100.0  # m/s, wall speed
+GAP = 0.01  # m; at 2 Pa argon lambda ~ 2.8 mm, Kn ~ 0.3
+NY = 20
+
+
+def _couette_1d():
+    text = f"""
+[gas]
+species = "Ar"
+temperature = 300.0
+pressure = 2.0
+[domain]
+length = {GAP!r}
+cells = {NY}
+[boundary.xmin]
+model = "diffuse"
+velocity = [0.0, {-U!r}, 0.0]
+[boundary.xmax]
+model = "diffuse"
+velocity = [0.0, {U!r}, 0.0]
+[numerics]
+particles_per_cell = 200
+[run]
+seed = 5
+transient_steps = 400
+sample_steps = 3000
+batches = 15
+"""
+    sim = Simulation(parse_case(text))
+    sim.run()
+    return sim
+
+
+def _couette_2d():
+    walls = {"xmin": PERIODIC, "xmax": PERIODIC,
+             "ymin": f'model = "diffuse"\nvelocity = [{-U!r}, 0.0, 0.0]',
+             "ymax": f'model = "diffuse"\nvelocity = [{U!r}, 0.0, 0.0]'}
+    sim = Simulation(parse_case(box_case(walls, length=(0.004, GAP), cells=(4, NY), pressure=2.0,
+                                         ppc=50, transient=400, samples=3000, batches=15,
+                                         seed=6)))
+    sim.run()
+    return sim
+
+
+def _profile_and_error(per_batch):
+    per_batch = np.asarray(per_batch)
+    return per_batch.mean(axis=0), per_batch.std(axis=0, ddof=1) / np.sqrt(per_batch.shape[0])
+
+
+def test_couette_2d_periodic_matches_1d():
+    """Same gap, gas and walls: the 2-D box (gap in y, periodic x) and the 1-D slab (gap in x)
+    give the same wall shear stress and velocity profile within their standard errors."""
+    one, two = _couette_1d(), _couette_2d()
+    # wall shear: mean of the two walls' tangential stress (antisymmetric by symmetry)
+    b1 = [0.5 * (w0 - w1) for w0, w1 in zip(*_wall_shear(one, 0, 1, 1))]
+    b2 = [0.5 * (w0 - w1) for w0, w1 in zip(*_wall_shear(two, 2, 3, 0))]
+    t1, s1 = _profile_and_error(b1)
+    t2, s2 = _profile_and_error(b2)
+    assert s1 < 0.02 * abs(t1) and s2 < 0.02 * abs(t2)
+    assert abs(t2 - t1) < 4.0 * np.hypot(s1, s2), (t1, s1, t2, s2)
+    # velocity profiles: u_y(x) of the slab, column mean of u_x(y) in the box
+    u1, e1 = _profile_and_error([f["velocity"][:, 1] for f in one.batch_fields()])
+    u2, e2 = _profile_and_error([f["velocity"][:, 0].reshape(NY, 4).mean(axis=1)
+                                 for f in two.batch_fields()])
+    assert np.all(e1 < 0.03 * U) and np.all(e2 < 0.03 * U)
+    z = (u2 - u1) / np.hypot(e1, e2)
+    assert np.max(np.abs(z)) < 4.5, z  # 20 cells: P(max |z| > 4.5) ~ 1e-4 for normal errors
+    assert u1[-1] > 0.3 * U and u2[-1] > 0.3 * U  # the profile is really sheared
+
+
+def _wall_shear(sim, lo, hi, comp):
+    """Per-batch tangential shear component ``comp`` on the sides ``lo``, ``hi``."""
+    from dsmc import stats
+
+    out = ([], [])
+    for b in sim._closed_batches():
+        for k, w in enumerate((lo, hi)):
+            f = stats.wall_fields(b.walls[w], b.steps * sim.dt, sim.weight,
+                                  sim.grid.side_areas[w], sim.grid.normals[w], sim.walls[w, 2:5])
+            out[k].append(f["shear_stress"][comp])
+    return out
+
+
+# ---------------------------------------------------------------------------- reproducibility
+
+CAVITY = {"xmin": DIFFUSE, "xmax": 'model = "maxwell"\naccommodation = 0.7', "ymin": DIFFUSE,
+          "ymax": 'model = "diffuse"\nvelocity = [120.0, 0.0, 0.0]'}
+
+
+def _cavity(threads, seed=9):
+    old = numba.get_num_threads()
+    numba.set_num_threads(threads)
+    try:
+        # 8000 particles (two random-stream blocks), a long time step: many wall hits
+        sim = Simulation(parse_case(box_case(CAVITY, cells=(10, 8), ppc=100, transient=20,
+                                             samples=40, batches=2, seed=seed)))
+        sim.run()
+    finally:
+        numba.set_num_threads(old)
+    return sim
+
+
+def _same(a, b):
+    assert np.array_equal(a.positions, b.positions)
+    assert np.array_equal(a.velocities, b.velocities)
+    fa, fb = a.fields(), b.fields()
+    for k in fa:
+        assert np.array_equal(fa[k][0], fb[k][0], equal_nan=True), k
+    for wa, wb in zip(a.wall_fields(), b.wall_fields()):
+        for k in wa:
+            assert np.array_equal(wa[k][0], wb[k][0]), k
+
+
+def test_same_seed_same_2d_run_and_other_seed_differs():
+    a = _cavity(1)
+    _same(a, _cavity(1))
+    assert not np.array_equal(a.velocities, _cavity(1, seed=10).velocities)
+
+
+@pytest.mark.skipif(numba.config.NUMBA_NUM_THREADS < 2, reason="needs two threads")
+def test_2d_thread_count_does_not_change_the_result():
+    _same(_cavity(1), _cavity(2))
+
+
+def test_2d_checkpoint_state_resumes_bit_identically():
+    text = box_case(CAVITY, ppc=20, transient=20, samples=40, batches=2)
+    full = Simulation(parse_case(text))
+    full.run()
+    part = Simulation(parse_case(text))
+    part.run(stop=lambda: part.step_count == 30)
+    resumed = Simulation(parse_case(text))
+    resumed.restore(part.state())
+    resumed.run()
+    _same(full, resumed)
+
+
+# ---------------------------------------------------------------------------- output
+
+
+def test_result_file_and_xdmf_sidecar(tmp_path):
+    sim = Simulation(parse_case(box_case(CAVITY, ppc=10, transient=10, samples=20, batches=2)))
+    sim.run()
+    out = write_results(tmp_path / "cavity.h5", result_tree(sim))
+    xmf = write_xdmf(out)
+    assert xmf == tmp_path / "cavity.xmf"
+    with h5py.File(out) as f:
+        assert f.attrs["dimension"] == 2
+        assert f["fields/temperature"].shape == (8, 10)
+        assert f["fields/velocity"].shape == (8, 10, 3)
+        assert set(f["walls"]) == {"xmin", "xmax", "ymin", "ymax"}
+        assert f["walls/ymax/area"][()] == pytest.approx(0.01)
+        # cell (ix, iy) of the file is flat cell ix + nx * iy of the run
+        t = sim.fields()["temperature"][0]
+        assert f["fields/temperature"][3, 7] == t[7 + 10 * 3]
+        root = ET.parse(xmf).getroot()
+        assert root.tag == "Xdmf" and root.get("Version") == "3.0"
+        grid = root.find("Domain/Grid")
+        assert grid.find("Topology").get("TopologyType") == "2DCoRectMesh"
+        assert grid.find("Topology").get("Dimensions") == "9 11"
+        names = set()
+        for att in grid.findall("Attribute"):
+            assert att.get("Center") == "Cell"
+            item = att.find("DataItem")
+            file, path = item.text.split(":")
+            assert file == "cavity.h5"
+            dims = tuple(int(d) for d in item.get("Dimensions").split())
+            assert f[path].shape == dims
+            names.add(att.get("Name"))
+        assert {"temperature", "velocity", "number_density", "pressure"} <= names
+
+
+# ---------------------------------------------------------------------------- case errors
+
+
+@pytest.mark.parametrize("change, where", [
+    (('[boundary.ymax]\nmodel = "specular"', '[boundary.ymax]\nmodel = "outflow"'),
+     "boundary.ymax.model"),
+    (('[boundary.ymin]\nmodel = "specular"', '[boundary.ymin]\nmodel = "periodic"'),
+     "boundary"),
+    (('[boundary.ymin]\nmodel = "specular"',
+      '[boundary.ymin]\nmodel = "diffuse"\nvelocity = [0.0, 5.0, 0.0]'),
+     "boundary.ymin.velocity"),
+    (("cells = [10, 8]", "cells = [10, 8, 2]"), "domain.cells"),
+    (("cells = [10, 8]", "cells = [10, 0]"), "domain.cells"),
+    (("length = [0.01, 0.008]", "length = [0.01, -1.0]"), "domain.length"),
+])
+def test_2d_case_errors_are_one_line(change, where):
+    text = box_case({s: SPECULAR for s in ("xmin", "xmax", "ymin", "ymax")})
+    assert change[0] in text
+    with pytest.raises(CaseError) as info:
+        parse_case(text.replace(change[0], change[1], 1), "box.toml")
+    msg = str(info.value)
+    assert "\n" not in msg and msg.startswith(f"box.toml: {where}"), msg
