@@ -414,3 +414,23 @@ def test_2d_case_errors_are_one_line(change, where):
         parse_case(text.replace(change[0], change[1], 1), "box.toml")
     msg = str(info.value)
     assert "\n" not in msg and msg.startswith(f"box.toml: {where}"), msg
+
+
+# ---------------------------------------------------------------------------- command line
+
+
+def test_dsmc_run_writes_results_and_sidecar_and_compare_refuses(tmp_path, capsys):
+    from dsmc.cli import main
+
+    case = tmp_path / "pocket.toml"
+    case.write_text(box_case(CAVITY, ppc=10, transient=10, samples=20, batches=2))
+    out = tmp_path / "pocket.h5"
+    assert main(["run", str(case), "-o", str(out), "--quiet"]) == 0
+    assert out.exists() and (tmp_path / "pocket.xmf").exists()
+    capsys.readouterr()
+    assert main(["compare", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert err.strip() == f"dsmc: error: {out}: a 2-D result file; the gap limits are for a 1-D slab"
+    assert main(["sweep", str(case), "--pressures", "1,2", "--out", str(tmp_path / "sw")]) == 2
+    err = capsys.readouterr().err
+    assert len(err.splitlines()) == 1 and "a Knudsen sweep is of 1-D gaps" in err
