@@ -77,8 +77,9 @@ def cmd_run(args) -> int:
             q, q_se = w["heat_flux"]
             p, p_se = w["pressure"]
             k = 0 if side[0] == "y" else 1  # the in-plane tangential component
-            print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_{'xy'[k]} {tau[k]:.5g} +- "
-                  f"{tau_se[k]:.2g} Pa, heat flux into wall {q:.5g} +- {q_se:.2g} W/m^2")
+            print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_{'xy'[k]} "
+                  f"{tau[k]:.5g} +- {tau_se[k]:.2g} Pa, heat flux into wall {q:.5g} +- "
+                  f"{q_se:.2g} W/m^2")
         if sim.shock is not None:
             s = sim.shock_profile()
             v, v_se = s["inverse_density_thickness"]

@@ -16,6 +16,9 @@ The schedule is a transient of ``transient_steps`` steps, then
 steps into ``batches`` consecutive batches (for standard errors, see
 :mod:`dsmc.stats`).  Wall fluxes are accumulated on every sampling step.
 
+The domain is a 1-D slab or a 2-D planar box (:mod:`dsmc.grid`); only the
+move kernel, the cell keys and the initial placement differ between them.
+
 The class holds arrays and a schedule; it does not parse, write files or
 print.  Scripts use it directly::
 
@@ -336,7 +339,8 @@ class Simulation:
             seq = np.random.SeedSequence(self.seed, spawn_key=key + (3, self.move_state.shape[0]))
             self.move_state = np.concatenate([self.move_state, new_streams(seq, extra)])
             # keep what the move kernel accumulated this step (injection reserves after the move)
-            self._wall_acc = np.concatenate([self._wall_acc, np.zeros((extra, self.n_sides, N_WALL_ACC))])
+            self._wall_acc = np.concatenate([self._wall_acc,
+                                             np.zeros((extra, self.n_sides, N_WALL_ACC))])
 
     # --------------------------------------------------------------- particles
 
@@ -793,11 +797,13 @@ class Simulation:
                 for k in total}
 
     def wall_fields(self) -> list[dict[str, tuple[np.ndarray, np.ndarray]]]:
-        """Per side (``grid.sides``: xmin, xmax[, ymin, ymax]): ``{name: (mean, standard error)}``."""
+        """Per side (``grid.sides``: xmin, xmax[, ymin, ymax]):
+        ``{name: (mean, standard error)}``."""
         batches = self._closed_batches()
         out = []
         for w in range(self.n_sides):
-            args = (self.weight, self.grid.side_areas[w], self.grid.normals[w], self.walls[w, 2:5])
+            args = (self.weight, self.grid.side_areas[w], self.grid.normals[w],
+                    self.walls[w, 2:5])
             per = [stats.wall_fields(b.walls[w], b.steps * self.dt, *args) for b in batches]
             total = stats.wall_fields(sum(b.walls[w] for b in batches),
                                       sum(b.steps for b in batches) * self.dt, *args)

@@ -430,7 +430,8 @@ def test_dsmc_run_writes_results_and_sidecar_and_compare_refuses(tmp_path, capsy
     capsys.readouterr()
     assert main(["compare", str(out)]) == 2
     err = capsys.readouterr().err
-    assert err.strip() == f"dsmc: error: {out}: a 2-D result file; the gap limits are for a 1-D slab"
+    assert err.strip() == (f"dsmc: error: {out}: a 2-D result file; the gap limits are for a "
+                           "1-D slab")
     assert main(["sweep", str(case), "--pressures", "1,2", "--out", str(tmp_path / "sw")]) == 2
     err = capsys.readouterr().err
     assert len(err.splitlines()) == 1 and "a Knudsen sweep is of 1-D gaps" in err
