@@ -192,6 +192,41 @@ def test_equilibrium_box_pressure_and_wall_flux():
         assert abs(f - flux_ref) < 4.0 * f_se, (side, f, flux_ref, f_se)
 
 
+def test_free_molecular_box_between_y_walls_matches_the_exact_solution():
+    """Kn ~ 200: the exact collisionless two-stream solution between Maxwell plates
+    (:func:`dsmc.analysis.limits.free_molecular`) for the wall shear, heat fluxes and pressure,
+    with the plates as the ymin / ymax sides of a box periodic in x.  Tolerance 2 %, with
+    standard errors below 0.5 % (4 s.e.), as for the 1-D slab in tests/test_gap_limits.py."""
+    from dsmc.analysis import limits
+
+    T1, T2, u1, u2, a1, a2 = 400.0, 250.0, -100.0, 200.0, 0.8, 0.5
+    walls = {"xmin": PERIODIC, "xmax": PERIODIC,
+             "ymin": f'model = "maxwell"\naccommodation = {a1}\ntemperature = {T1}\n'
+                     f'velocity = [{u1}, 0.0, 0.0]',
+             "ymax": f'model = "maxwell"\naccommodation = {a2}\ntemperature = {T2}\n'
+                     f'velocity = [{u2}, 0.0, 0.0]'}
+    text = box_case(walls, length=(2e-4, 1e-3), cells=(2, 10), pressure=0.025, ppc=100,
+                    transient=400, samples=32000, batches=20, seed=101)
+    text = text.replace("temperature = 300.0", f"temperature = {0.5 * (T1 + T2)}", 1)
+    sim = Simulation(parse_case(text))
+    sim.run()
+    n_avg = sim.n_particles * sim.weight / sim.grid.volume
+    fm = limits.free_molecular(sim.mass[0], n_avg, T1, T2, u1, u2, a1, a2)
+    w = sim.wall_fields()
+    tau_lo, tau_lo_se = w[2]["shear_stress"][0][0], w[2]["shear_stress"][1][0]
+    tau_hi, tau_hi_se = w[3]["shear_stress"][0][0], w[3]["shear_stress"][1][0]
+    for dsmc, se in ((-tau_lo, tau_lo_se), (tau_hi, tau_hi_se)):
+        assert se < 0.005 * abs(fm.tau)
+        assert abs(dsmc - fm.tau) < 0.02 * abs(fm.tau), (dsmc, fm.tau)
+    scale = max(abs(fm.q_wall1), abs(fm.q_wall2))
+    for dsmc, se, exact in ((-w[2]["heat_flux"][0], w[2]["heat_flux"][1], fm.q_wall1),
+                            (w[3]["heat_flux"][0], w[3]["heat_flux"][1], fm.q_wall2)):
+        assert se < 0.005 * scale
+        assert abs(dsmc - exact) < 0.02 * scale, (dsmc, exact)
+    p, p_se = w[2]["pressure"]
+    assert p_se < 0.005 * fm.p_xx and abs(p - fm.p_xx) < 0.02 * fm.p_xx, (p, fm.p_xx)
+
+
 # ---------------------------------------------------------------------------- Couette vs 1-D
 
 U = 100.0  # m/s, wall speed
