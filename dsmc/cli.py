@@ -116,6 +116,10 @@ def cmd_check(args) -> int:
           f"{ref['mean_collision_time']:.4g} s")
     print(f"particles {sim.n_particles}, cells {sim.grid.cells}, time step {sim.dt:.4g} s, "
           f"particle weight {sim.weight:.4g}")
+    if sim.grid.dim == 2:
+        g = sim.grid
+        print(f"2-D box {g.lx:.4g} m x {g.ly:.4g} m (unit depth), {g.nx} x {g.ny} cells; sides "
+              + ", ".join(f"{side} {w.model}" for side, w in zip(g.sides, case.walls)))
     figures = sim.adequacy()
     warnings = adequacy_warnings(figures)
     _print_adequacy(figures, warnings)

@@ -459,6 +459,9 @@ def test_dsmc_run_writes_results_and_sidecar_and_compare_refuses(tmp_path, capsy
 
     case = tmp_path / "pocket.toml"
     case.write_text(box_case(CAVITY, ppc=10, transient=10, samples=20, batches=2))
+    assert main(["check", str(case)]) == 0
+    assert ("2-D box 0.01 m x 0.008 m (unit depth), 10 x 8 cells; sides xmin diffuse, xmax "
+            "maxwell, ymin diffuse, ymax diffuse") in capsys.readouterr().out
     out = tmp_path / "pocket.h5"
     assert main(["run", str(case), "-o", str(out), "--quiet"]) == 0
     assert out.exists() and (tmp_path / "pocket.xmf").exists()
