@@ -234,7 +234,7 @@ GAP = 0.01  # m; at 2 Pa argon lambda ~ 2.8 mm, Kn ~ 0.3
 NY = 20
 
 
-def _couette_1d():
+def _couette_1d(samples=3000, ppc=200):
     text = f"""
 [gas]
 species = "Ar"
@@ -250,11 +250,11 @@ velocity = [0.0, {-U!r}, 0.0]
 model = "diffuse"
 velocity = [0.0, {U!r}, 0.0]
 [numerics]
-particles_per_cell = 200
+particles_per_cell = {ppc}
 [run]
 seed = 5
 transient_steps = 400
-sample_steps = 3000
+sample_steps = {samples}
 batches = 15
 """
     sim = Simulation(parse_case(text))
@@ -262,12 +262,12 @@ batches = 15
     return sim
 
 
-def _couette_2d():
+def _couette_2d(samples=3000, ppc=50):
     walls = {"xmin": PERIODIC, "xmax": PERIODIC,
              "ymin": f'model = "diffuse"\nvelocity = [{-U!r}, 0.0, 0.0]',
              "ymax": f'model = "diffuse"\nvelocity = [{U!r}, 0.0, 0.0]'}
     sim = Simulation(parse_case(box_case(walls, length=(0.004, GAP), cells=(4, NY), pressure=2.0,
-                                         ppc=50, transient=400, samples=3000, batches=15,
+                                         ppc=ppc, transient=400, samples=samples, batches=15,
                                          seed=6)))
     sim.run()
     return sim
