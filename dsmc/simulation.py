@@ -155,7 +155,7 @@ class Simulation:
         self.steady_detected = False
         self.stop_reason = ""
         self.windows: list[np.ndarray] = []
-        self._win_sum = np.zeros(9)
+        self._win_sum = np.zeros(4 * self.n_sides + 1)  # see _monitor_values
         self._win_steps = 0
         self._target_history: list[np.ndarray] = []
         # ensembles replace this by a mean over the replicas, so that every replica

@@ -392,6 +392,19 @@ def test_2d_checkpoint_state_resumes_bit_identically():
     _same(full, resumed)
 
 
+def test_2d_steady_state_detection_and_target_error_stop():
+    """The schedule's steady-state monitor (hits, momentum, energy of every side, gas kinetic
+    energy) and the target-error stop work on four sides."""
+    text = box_case(CAVITY, ppc=20, transient=3000, samples=4000, batches=20)
+    text = text.replace("batches = 20", 'batches = 20\nsteady_state = "auto"\nmonitor_window = 50\n'
+                                        "target_error = 0.05")
+    sim = Simulation(parse_case(text))
+    sim.run()
+    assert sim.windows and len(sim.windows[0]) == 4 * 4 + 1
+    assert sim.steady_detected and sim.transient_end_step < 3000
+    assert sim.stop_reason in ("target_error", "sample_steps")
+
+
 # ---------------------------------------------------------------------------- output
 
 
