@@ -405,6 +405,22 @@ def test_2d_steady_state_detection_and_target_error_stop():
     assert sim.stop_reason in ("target_error", "sample_steps")
 
 
+def test_memory_estimate_counts_the_2d_particle_arrays():
+    """dsmc/resources.py: a 2-D slot holds one more coordinate (and its sort scratch copy)."""
+    from dsmc import resources
+
+    c = parse_case(box_case(CAVITY, ppc=23.5))
+    sim = Simulation(c)
+    p = sim.particles
+    assert p.nbytes() == (resources.PARTICLE_ARRAYS + 16) * p.capacity
+    assert resources.PLANAR_EXTRA_BYTES == 16 + 2 * N_WALL_ACC * 8 / resources.BLOCK_SIZE
+    state = sim.state()
+    assert sum(state[k].nbytes for k in ("pos", "v", "sp", "erot", "vib")) == (
+        (resources.COPY_BYTES_PER_PARTICLE + resources.PLANAR_EXTRA_COPY_BYTES) * sim.n_particles)
+    est = resources.estimate(c)
+    assert est.cells == 80 and est.particles == int(np.ceil(23.5 * 80))
+
+
 # ---------------------------------------------------------------------------- output
 
 
