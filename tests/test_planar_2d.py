@@ -299,6 +299,34 @@ def test_couette_2d_periodic_matches_1d():
     assert u1[-1] > 0.3 * U and u2[-1] > 0.3 * U  # the profile is really sheared
 
 
+def test_couette_between_x_walls_with_specular_y_sides_matches_1d():
+    """Specular sides are symmetry planes: walls xmin / xmax sliding in z with specular ymin /
+    ymax give the 1-D slab's Couette flow (the slab's walls slide in y; by the symmetry of the
+    gas the stress does not depend on the in-plane direction of sliding)."""
+    one = _couette_1d()
+    walls = {"xmin": f'model = "diffuse"\nvelocity = [0.0, 0.0, {-U!r}]',
+             "xmax": f'model = "diffuse"\nvelocity = [0.0, 0.0, {U!r}]',
+             "ymin": SPECULAR, "ymax": SPECULAR}
+    two = Simulation(parse_case(box_case(walls, length=(GAP, 0.004), cells=(NY, 4), pressure=2.0,
+                                         ppc=50, transient=400, samples=3000, batches=15,
+                                         seed=8)))
+    two.run()
+    t1, s1 = _profile_and_error([0.5 * (a - b) for a, b in zip(*_wall_shear(one, 0, 1, 1))])
+    t2, s2 = _profile_and_error([0.5 * (a - b) for a, b in zip(*_wall_shear(two, 0, 1, 2))])
+    assert s1 < 0.02 * abs(t1) and s2 < 0.02 * abs(t2)
+    assert abs(t2 - t1) < 4.0 * np.hypot(s1, s2), (t1, s1, t2, s2)
+    u1, e1 = _profile_and_error([f["velocity"][:, 1] for f in one.batch_fields()])
+    u2, e2 = _profile_and_error([f["velocity"][:, 2].reshape(4, NY).mean(axis=0)
+                                 for f in two.batch_fields()])
+    z = (u2 - u1) / np.hypot(e1, e2)
+    assert np.max(np.abs(z)) < 4.5, z
+    # the specular sides take no shear and see no mean y or z force
+    w = two.wall_fields()
+    for side in (2, 3):
+        tau, se = w[side]["shear_stress"]
+        assert np.all(np.abs(tau) <= 1e-12 * w[side]["pressure"][0])
+
+
 def _wall_shear(sim, lo, hi, comp):
     """Per-batch tangential shear component ``comp`` on the sides ``lo``, ``hi``."""
     from dsmc import stats
