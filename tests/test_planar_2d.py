@@ -120,6 +120,32 @@ def test_keys_2d_flat_cell_index():
     assert list(key) == [0, 3, 4, 7, 1 + 4 * 1]
 
 
+def test_move_2d_keys_and_histogram_feed_the_counted_sort():
+    """Over several histogram chunks (80 000 particles, 20 blocks): the keys move_2d writes
+    are those of keys_2d, its per-chunk histogram is that of sort.histogram, and the counted
+    sort leaves every particle in its cell."""
+    from dsmc.kernels.sort import chunk_layout, histogram
+    from dsmc.simulation import BLOCK_SIZE
+
+    sim = Simulation(parse_case(box_case(CAVITY, cells=(20, 20), ppc=200)))
+    p, g = sim.particles, sim.grid
+    n_chunks = chunk_layout(p.n, BLOCK_SIZE)[0]
+    assert n_chunks >= 2
+    sim._move()
+    moved = sim._hist[:n_chunks].copy()
+    key = np.zeros(p.n, dtype=np.int32)
+    keys_2d(p.pos, p.n, g.lx, g.ly, g.nx, g.ny, key)
+    assert np.array_equal(key, p.key[: p.n])
+    recount = np.zeros_like(sim._hist)
+    histogram(p.key, p.n, g.cells + 1, BLOCK_SIZE, recount)
+    assert np.array_equal(moved, recount[:n_chunks])
+    sim._sort(counted=True)
+    cell = np.repeat(np.arange(g.cells), np.diff(sim.cell_start))
+    ix = np.minimum((sim.positions[:, 0] / g.dx).astype(int), g.nx - 1)
+    iy = np.minimum((sim.positions[:, 1] / g.dy).astype(int), g.ny - 1)
+    assert np.array_equal(cell, ix + g.nx * iy)
+
+
 # ---------------------------------------------------------------------------- invariants
 
 
