@@ -510,6 +510,30 @@ def test_result_file_and_xdmf_sidecar(tmp_path):
         assert {"temperature", "velocity", "number_density", "pressure"} <= names
 
 
+def test_plot_2d_writes_a_png_and_the_1d_plot_refuses(tmp_path):
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    tools = Path(__file__).resolve().parents[1] / "tools"
+    sim = Simulation(parse_case(box_case(CAVITY, ppc=10, transient=10, samples=20, batches=2)))
+    sim.run()
+    res = write_results(tmp_path / "cavity.h5", result_tree(sim))
+    env = dict(os.environ, MPLBACKEND="Agg")
+    done = subprocess.run([sys.executable, str(tools / "plot_2d.py"), str(res), "--field",
+                           "pressure"], env=env, capture_output=True, text=True, timeout=120)
+    assert done.returncode == 0, done.stderr
+    png = res.with_suffix(".png")
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and png.stat().st_size > 10_000
+    done = subprocess.run([sys.executable, str(tools / "plot_2d.py"), str(res), "--field",
+                           "velocity"], env=env, capture_output=True, text=True, timeout=120)
+    assert done.returncode == 2 and done.stderr.count("\n") == 1, done.stderr
+    done = subprocess.run([sys.executable, str(tools / "plot_profiles.py"), str(res)], env=env,
+                          capture_output=True, text=True, timeout=120)
+    assert done.returncode == 2 and "plot it with tools/plot_2d.py" in done.stderr
+
+
 # ---------------------------------------------------------------------------- case errors
 
 
