@@ -113,6 +113,26 @@ def test_several_hits_in_one_step_and_periodic_wrap():
     assert key == 1 + 4 * 0
 
 
+def test_absurd_time_step_stops_at_max_hits_inside_the_box():
+    """The MAX_HITS guard: a flight of 1e9 box widths ends after MAX_HITS wall hits, on a
+    wall, inside the box."""
+    from dsmc.kernels.move import MAX_HITS
+
+    walls = np.array([wall_row("specular", 300.0, (0, 0, 0))] * 4)
+    pos, v, acc, key, _ = _move_one((0.3, 0.6), (1.0, 0.7, 0.0), 1e9, walls)
+    assert acc[:, 0].sum() == MAX_HITS
+    assert 0.0 <= pos[0] <= 1.0 and 0.0 <= pos[1] <= 1.0 and 0 <= key < 16
+    assert abs(v[0]) == 1.0 and abs(v[1]) == 0.7
+
+
+def test_set_particles_in_2d():
+    sim = Simulation(parse_case(box_case(CAVITY, ppc=5)))
+    sim.set_particles([[0.001, 0.007], [0.0095, 0.0005]], [[1.0, 2.0, 3.0], [0.0, 0.0, 0.0]])
+    assert sim.positions.shape == (2, 2) and list(np.diff(sim.cell_start).nonzero()[0]) == [9, 71]
+    with pytest.raises(ValueError, match="outside"):
+        sim.set_particles([[0.001, 0.009]], [[0.0, 0.0, 0.0]])
+
+
 def test_keys_2d_flat_cell_index():
     pos = np.array([[0.0, 0.0], [0.99, 0.0], [0.0, 0.99], [1.0, 1.0], [0.26, 0.51]])
     key = np.zeros(5, dtype=np.int32)
