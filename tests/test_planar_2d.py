@@ -554,6 +554,22 @@ def test_plot_2d_writes_a_png_and_the_1d_plot_refuses(tmp_path):
     assert done.returncode == 2 and "plot it with tools/plot_2d.py" in done.stderr
 
 
+def test_docs_2d_reading_example_runs_on_a_real_file(tmp_path, capsys):
+    import re
+    from pathlib import Path
+
+    doc = (Path(__file__).resolve().parents[1] / "docs" / "output.md").read_text()
+    example = next(b for b in re.findall(r"```python\n(.*?)```", doc, flags=re.S)
+                   if 'h5py.File("cavity.h5"' in b)
+    sim = Simulation(parse_case(box_case(CAVITY, ppc=10, transient=10, samples=20, batches=2)))
+    sim.run()
+    res = write_results(tmp_path / "cavity.h5", result_tree(sim))
+    exec(compile(example.replace("cavity.h5", str(res)), "docs/output.md", "exec"), {})
+    out = capsys.readouterr().out
+    t = sim.fields()["temperature"][0][5 + 10 * 4]  # ix = nx // 2, iy = ny // 2
+    assert out.startswith(f"T at the centre {t:.2f} K, lid shear ")
+
+
 # ---------------------------------------------------------------------------- case errors
 
 
