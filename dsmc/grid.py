@@ -1,11 +1,11 @@
 """Uniform Cartesian grids.
 
 Both grids offer the interface the simulation uses: ``cells`` (total number
-of cells), ``shape`` (cells per axis, x first), ``volumes``, ``centers``
-(``(cells,)`` in 1-D, ``(cells, 2)`` in 2-D), ``dim``, ``sides`` (side names
-in wall-row order), ``normals`` (unit normal into the gas of each side, as
-``(nx, ny)``), ``side_areas`` (m^2 of each side), ``extent`` (domain size per axis) and
-``cell_size`` (smallest cell edge).
+of cells), ``volumes``, ``volume`` (of the domain), ``centers`` (``(cells,)``
+in 1-D, ``(cells, 2)`` in 2-D, in flat cell order), ``dim``, ``sides`` (side
+names in wall-row order), ``normals`` (unit normal into the gas of each side,
+as ``(nx, ny)``), ``side_areas`` (m^2 of each side), ``extent`` (domain size
+per axis) and ``cell_size`` (smallest cell edge).
 """
 
 from __future__ import annotations
@@ -50,10 +50,6 @@ class Grid1D:
         return 1
 
     @property
-    def shape(self) -> tuple[int]:
-        return (self.cells,)
-
-    @property
     def extent(self) -> tuple[float]:
         return (self.length,)
 
@@ -93,10 +89,6 @@ class Grid2D:
     @property
     def cells(self) -> int:
         return self.nx * self.ny
-
-    @property
-    def shape(self) -> tuple[int, int]:
-        return (self.nx, self.ny)
 
     @property
     def extent(self) -> tuple[float, float]:

@@ -164,6 +164,9 @@ def test_move_2d_keys_and_histogram_feed_the_counted_sort():
     ix = np.minimum((sim.positions[:, 0] / g.dx).astype(int), g.nx - 1)
     iy = np.minimum((sim.positions[:, 1] / g.dy).astype(int), g.ny - 1)
     assert np.array_equal(cell, ix + g.nx * iy)
+    centre_keys = np.zeros(g.cells, dtype=np.int32)
+    keys_2d(g.centers, g.cells, g.lx, g.ly, g.nx, g.ny, centre_keys)
+    assert np.array_equal(centre_keys, np.arange(g.cells))  # centres in flat cell order
 
 
 # ---------------------------------------------------------------------------- invariants
