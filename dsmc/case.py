@@ -19,9 +19,9 @@ from dsmc.errors import CaseError, UnknownNameError, nearest
 from dsmc.gas.kinetic import K_B, relaxation_tables
 from dsmc.gas.species import Species, get_species
 from dsmc.gas.shock import shock_states
+from dsmc.grid import SIDES_1D, SIDES_2D
 from dsmc.models import BOUNDARY_KINDS, COLLISION_MODELS, OPEN_BOUNDARIES, WALL_MODELS
 
-SIDES_1D = ("xmin", "xmax")
 
 
 @dataclass(frozen=True)
@@ -54,8 +54,25 @@ class GasSpec:
 
 @dataclass(frozen=True)
 class DomainSpec:
-    length: float  # m
-    cells: int
+    """A 1-D slab (``length``, ``cells``) or, with ``height`` > 0, a 2-D box
+    ``length`` x ``height`` of ``cells`` x ``cells_y`` cells."""
+
+    length: float  # m, extent in x
+    cells: int  # cells in x
+    height: float = 0.0  # m, extent in y (2-D only)
+    cells_y: int = 0  # cells in y (2-D only)
+
+    @property
+    def dim(self) -> int:
+        return 2 if self.cells_y else 1
+
+    @property
+    def n_cells(self) -> int:
+        return self.cells * max(self.cells_y, 1)
+
+    @property
+    def sides(self) -> tuple[str, ...]:
+        return SIDES_2D if self.dim == 2 else SIDES_1D
 
 
 @dataclass(frozen=True)
@@ -130,7 +147,7 @@ class Case:
     title: str
     gas: GasSpec
     domain: DomainSpec
-    walls: tuple[WallSpec, WallSpec]  # (xmin, xmax)
+    walls: tuple[WallSpec, ...]  # (xmin, xmax) in 1-D, (xmin, xmax, ymin, ymax) in 2-D
     initial: InitialSpec = field(default_factory=InitialSpec)
     numerics: NumericsSpec = field(default_factory=NumericsSpec)
     run: RunSpec = field(default_factory=RunSpec)
@@ -376,10 +393,35 @@ def _read_gas(t: _Table) -> GasSpec:
 
 
 def _read_domain(t: _Table) -> DomainSpec:
+    """A number ``length`` and an integer ``cells``: a 1-D slab; lists of two
+    (``[Lx, Ly]``, ``[nx, ny]``): a 2-D box."""
+    if isinstance(t.data.get("length"), list) or isinstance(t.data.get("cells"), list):
+        lengths = _pair(t, "length", float, "positive numbers (in m)")
+        cells = _pair(t, "cells", int, "whole numbers")
+        if any(not (0.0 < x <= 1e3) for x in lengths):
+            t.fail(f"each length must be > 0 and at most 1000 (in m), got {_short(lengths)}",
+                   "length")
+        if any(not (1 <= c <= 100_000) for c in cells) or cells[0] * cells[1] > 10_000_000:
+            t.fail(f"each count must be in [1, 100000] and their product at most 10000000, got "
+                   f"{_short(cells)}", "cells")
+        t.finish()
+        return DomainSpec(lengths[0], cells[0], lengths[1], cells[1])
     length = t.number("length", required=True, positive=True, maximum=1e3, unit="m")
     cells = t.integer("cells", required=True, minimum=1, maximum=10_000_000)
     t.finish()
     return DomainSpec(length, cells)
+
+
+def _pair(t: _Table, name: str, kind, what: str):
+    raw = t._raw(name, True)
+    ok = (isinstance(raw, list) and len(raw) == 2
+          and all(not isinstance(c, bool) and isinstance(c, (int, float) if kind is float else int)
+                  for c in raw))
+    if not ok:
+        t.fail(f"a 2-D domain needs a list of two {what} [x, y], got {_short(raw)}", name)
+    if kind is float and not all(math.isfinite(c) for c in raw):
+        t.fail(f"must be finite, got {_short(raw)}", name)
+    return tuple(kind(c) for c in raw)
 
 
 def _key_owners(name: str) -> list[str]:
@@ -387,9 +429,13 @@ def _key_owners(name: str) -> list[str]:
             + [m for m, b in OPEN_BOUNDARIES.items() if name in b.state_keys])
 
 
-def _read_wall(t: _Table, gas: GasSpec) -> WallSpec:
+def _read_wall(t: _Table, gas: GasSpec, axis: int = 0, planar: bool = False) -> WallSpec:
+    """A wall normal to ``axis`` (0: x, 1: y); ``planar``: a side of a 2-D box."""
     model = t.choice("model", BOUNDARY_KINDS, required=True)
     if model in OPEN_BOUNDARIES:
+        if planar:
+            t.fail(f"open sides ('{model}') are not available in 2-D yet; use a wall or "
+                   "'periodic'", "model")
         return _read_open(t, gas, model)
     spec = WALL_MODELS[model]
     allowed = {"model", "temperature", "velocity", *spec.keys}
@@ -402,9 +448,9 @@ def _read_wall(t: _Table, gas: GasSpec) -> WallSpec:
         return WallSpec(model, gas.temperature, (0.0, 0.0, 0.0))
     temperature = t.number("temperature", gas.temperature, positive=True, maximum=1e5, unit="K")
     velocity = t.vector3("velocity", unit="m/s")
-    if velocity[0] != 0.0:
-        t.fail("the wall-normal (x) component must be 0: walls slide, they do not move through the gas",
-               "velocity")
+    if velocity[axis] != 0.0:
+        t.fail(f"the wall-normal ({'xy'[axis]}) component must be 0: walls slide, they do not "
+               "move through the gas", "velocity")
     extra = {k: t.number(k, 1.0, minimum=0.0, maximum=1.0) for k in spec.keys}
     t.finish()
     return WallSpec(model, temperature, velocity, **extra)
@@ -468,15 +514,18 @@ def _shock_walls(top: _Table, gas: GasSpec, shock: ShockSpec) -> tuple[WallSpec,
             WallSpec("inflow", st.T2, (st.u2, 0.0, 0.0), number_density=st.n2))
 
 
-def _read_walls(top: _Table, gas: GasSpec) -> tuple[WallSpec, WallSpec]:
+def _read_walls(top: _Table, gas: GasSpec, domain: DomainSpec) -> tuple[WallSpec, ...]:
     t = top.table("boundary", required=True)
+    planar = domain.dim == 2
     walls = []
-    for side in SIDES_1D:
-        walls.append(_read_wall(t.table(side, required=True), gas))
+    for k, side in enumerate(domain.sides):
+        walls.append(_read_wall(t.table(side, required=True), gas, k // 2, planar))
     t.finish()
-    if (walls[0].model == "periodic") != (walls[1].model == "periodic"):
-        t.fail("'periodic' must be given on both xmin and xmax")
-    return walls[0], walls[1]
+    for lo, hi in zip(domain.sides[0::2], domain.sides[1::2]):
+        a, b = walls[domain.sides.index(lo)], walls[domain.sides.index(hi)]
+        if (a.model == "periodic") != (b.model == "periodic"):
+            t.fail(f"'periodic' must be given on both {lo} and {hi}")
+    return tuple(walls)
 
 
 def _check_open_sides_gas(top: _Table, gas: GasSpec, walls, shock):
@@ -578,9 +627,14 @@ def parse_case(text: str, path: str = "<case>") -> Case:
     gas = _read_gas(top.table("gas", required=True))
     domain = _read_domain(top.table("domain", required=True))
     shock = _read_shock(top.table("shock"))
-    walls = _read_walls(top, gas) if shock is None else _shock_walls(top, gas, shock)
+    if shock is not None and domain.dim == 2:
+        top.fail("the shock case is 1-D: give domain.length and domain.cells as single values",
+                 "shock")
+    walls = _read_walls(top, gas, domain) if shock is None else _shock_walls(top, gas, shock)
     _check_open_sides_gas(top, gas, walls, shock)
     initial = _read_initial(top.table("initial"))
+    if domain.dim == 2 and initial.profile != "uniform":
+        top.fail("a 2-D domain starts from the uniform [gas] state only", "initial.profile")
     numerics = _read_numerics(top.table("numerics"))
     run = _read_run(top.table("run"))
     top.finish()

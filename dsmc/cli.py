@@ -66,7 +66,7 @@ def cmd_run(args) -> int:
               f"M particle-steps/s); sampling from step {sim.transient_end_step}, "
               f"stopped by {sim.stop_reason}")
         _print_adequacy(figures, adequacy_warnings(figures))
-        for side, w, fl in zip(("xmin", "xmax"), sim.wall_fields(), sim.open_side_fluxes()):
+        for side, w, fl in zip(sim.grid.sides, sim.wall_fields(), sim.open_side_fluxes()):
             if fl is not None:
                 fin, fin_se = fl["inflow_number_flux"]
                 fout, fout_se = fl["outflow_number_flux"]
@@ -76,8 +76,10 @@ def cmd_run(args) -> int:
             tau, tau_se = w["shear_stress"]
             q, q_se = w["heat_flux"]
             p, p_se = w["pressure"]
-            print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_y {tau[1]:.5g} +- "
-                  f"{tau_se[1]:.2g} Pa, heat flux into wall {q:.5g} +- {q_se:.2g} W/m^2")
+            k = 0 if side[0] == "y" else 1  # the in-plane tangential component
+            print(f"wall {side}: pressure {p:.5g} +- {p_se:.2g} Pa, shear_{'xy'[k]} "
+                  f"{tau[k]:.5g} +- {tau_se[k]:.2g} Pa, heat flux into wall {q:.5g} +- "
+                  f"{q_se:.2g} W/m^2")
         if sim.shock is not None:
             s = sim.shock_profile()
             v, v_se = s["inverse_density_thickness"]
@@ -114,6 +116,10 @@ def cmd_check(args) -> int:
           f"{ref['mean_collision_time']:.4g} s")
     print(f"particles {sim.n_particles}, cells {sim.grid.cells}, time step {sim.dt:.4g} s, "
           f"particle weight {sim.weight:.4g}")
+    if sim.grid.dim == 2:
+        g = sim.grid
+        print(f"2-D box {g.lx:.4g} m x {g.ly:.4g} m (unit depth), {g.nx} x {g.ny} cells; sides "
+              + ", ".join(f"{side} {w.model}" for side, w in zip(g.sides, case.walls)))
     figures = sim.adequacy()
     warnings = adequacy_warnings(figures)
     _print_adequacy(figures, warnings)

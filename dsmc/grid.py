@@ -1,4 +1,12 @@
-"""Uniform Cartesian grids."""
+"""Uniform Cartesian grids.
+
+Both grids offer the interface the simulation uses: ``cells`` (total number
+of cells), ``volumes``, ``volume`` (of the domain), ``centers`` (``(cells,)``
+in 1-D, ``(cells, 2)`` in 2-D, in flat cell order), ``dim``, ``sides`` (side
+names in wall-row order), ``normals`` (unit normal into the gas of each side,
+as ``(nx, ny)``), ``side_areas`` (m^2 of each side), ``extent`` (domain size
+per axis) and ``cell_size`` (smallest cell edge).
+"""
 
 from __future__ import annotations
 
@@ -7,6 +15,11 @@ from dataclasses import dataclass
 import numpy as np
 
 UNIT_AREA = 1.0  # m^2: a 1-D slab is a column of unit cross-section
+UNIT_DEPTH = 1.0  # m: a 2-D planar domain is a prism of unit depth in z
+
+SIDES_1D = ("xmin", "xmax")
+SIDES_2D = ("xmin", "xmax", "ymin", "ymax")
+_NORMALS = {"xmin": (1.0, 0.0), "xmax": (-1.0, 0.0), "ymin": (0.0, 1.0), "ymax": (0.0, -1.0)}
 
 
 @dataclass(frozen=True)
@@ -35,3 +48,107 @@ class Grid1D:
     @property
     def dim(self) -> int:
         return 1
+
+    @property
+    def extent(self) -> tuple[float]:
+        return (self.length,)
+
+    @property
+    def volume(self) -> float:
+        return self.length * UNIT_AREA
+
+    @property
+    def sides(self) -> tuple[str, ...]:
+        return SIDES_1D
+
+    @property
+    def normals(self) -> tuple[np.ndarray, ...]:
+        return tuple(np.array(_NORMALS[s]) for s in SIDES_1D)
+
+    @property
+    def side_areas(self) -> tuple[float, ...]:
+        return (UNIT_AREA, UNIT_AREA)
+
+    @property
+    def cell_size(self) -> float:
+        return self.dx
+
+@dataclass(frozen=True)
+class Grid2D:
+    """``nx`` x ``ny`` equal cells on ``[0, lx] x [0, ly]``, of unit depth in z.
+
+    Cell ``(ix, iy)`` has the flat index ``c = ix + nx * iy``, so a field of
+    ``cells`` values reshaped (C order) to ``(ny, nx)`` is indexed ``[iy, ix]``.
+    """
+
+    lx: float
+    ly: float
+    nx: int
+    ny: int
+
+    @property
+    def cells(self) -> int:
+        return self.nx * self.ny
+
+    @property
+    def extent(self) -> tuple[float, float]:
+        return (self.lx, self.ly)
+
+    @property
+    def dx(self) -> float:
+        return self.lx / self.nx
+
+    @property
+    def dy(self) -> float:
+        return self.ly / self.ny
+
+    @property
+    def x_edges(self) -> np.ndarray:
+        return np.linspace(0.0, self.lx, self.nx + 1)
+
+    @property
+    def y_edges(self) -> np.ndarray:
+        return np.linspace(0.0, self.ly, self.ny + 1)
+
+    @property
+    def x_centers(self) -> np.ndarray:
+        return (np.arange(self.nx) + 0.5) * self.dx
+
+    @property
+    def y_centers(self) -> np.ndarray:
+        return (np.arange(self.ny) + 0.5) * self.dy
+
+    @property
+    def centers(self) -> np.ndarray:
+        """``(cells, 2)`` cell centres in flat cell order."""
+        xc, yc = np.meshgrid(self.x_centers, self.y_centers)  # (ny, nx)
+        return np.column_stack([xc.ravel(), yc.ravel()])
+
+    @property
+    def volumes(self) -> np.ndarray:
+        return np.full(self.cells, self.dx * self.dy * UNIT_DEPTH)
+
+    @property
+    def volume(self) -> float:
+        return self.lx * self.ly * UNIT_DEPTH
+
+    @property
+    def dim(self) -> int:
+        return 2
+
+    @property
+    def sides(self) -> tuple[str, ...]:
+        return SIDES_2D
+
+    @property
+    def normals(self) -> tuple[np.ndarray, ...]:
+        return tuple(np.array(_NORMALS[s]) for s in SIDES_2D)
+
+    @property
+    def side_areas(self) -> tuple[float, ...]:
+        return (self.ly * UNIT_DEPTH, self.ly * UNIT_DEPTH, self.lx * UNIT_DEPTH,
+                self.lx * UNIT_DEPTH)
+
+    @property
+    def cell_size(self) -> float:
+        return min(self.dx, self.dy)

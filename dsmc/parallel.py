@@ -112,6 +112,8 @@ def sweep_cases(base_text: str, base_path: str = "<base>", pressures=None, gaps=
     if not values or any(not (v > 0 and math.isfinite(v)) for v in values):
         raise UserError("sweep values must be positive numbers")
     base = parse_case(base_text, base_path)
+    if base.domain.dim == 2:
+        raise UserError(f"{base_path}: a Knudsen sweep is of 1-D gaps (this case is a 2-D box)")
     if any(w.is_open for w in base.walls):
         raise UserError(f"{base_path}: a Knudsen sweep needs two walls (this case has an open "
                         "side); a [shock] case takes --machs")

@@ -15,8 +15,9 @@ objects by ``tests/test_resources.py``)::
     memory   = BASE
              + capacity * BYTES_PER_PARTICLE    positions, velocities, species, their sort
                                                 scratch copies and the cell keys
-                                                (Particles.nbytes = 70 per slot); plus the
-                                                move streams and wall accumulators per block
+                                                (Particles.nbytes = 70 per slot, 86 in a
+                                                2-D box); plus the move streams and wall
+                                                accumulators per block
              + P * COPY_BYTES_PER_PARTICLE      copy of the live particles taken by a checkpoint
                                                 (or read back on --resume)
              + N * BYTES_PER_CELL               per-cell state, collision streams, the current
@@ -52,6 +53,10 @@ INTERNAL_ARRAYS = 2 * (8 + 4)  # erot (float64), vib (int32) and scratch: gases 
 BLOCK_BYTES = 4 * 8 + 2 * 5 * 8  # per block: xoshiro state (4 uint64), wall accumulators (2 x 5)
 BYTES_PER_PARTICLE = PARTICLE_ARRAYS + BLOCK_BYTES / BLOCK_SIZE
 COPY_BYTES_PER_PARTICLE = 8 * 1 + 8 * 3 + 1  # state(): copies of pos, v, sp
+# a 2-D box: the y coordinate and its scratch copy per slot, two more sides of wall
+# accumulators per block, and the y coordinate in the checkpoint copy
+PLANAR_EXTRA_BYTES = 2 * 8 + 2 * 5 * 8 / BLOCK_SIZE
+PLANAR_EXTRA_COPY_BYTES = 8
 INTERNAL_COPY_BYTES = 8 + 4  # state(): copies of erot, vib
 MOMENTS = 15  # sampled moments per cell and species (dsmc.kernels.sample.N_MOMENTS)
 COLL_STATS = 2  # per-cell collision statistics (dsmc.kernels.collide.N_COLL_STATS)
@@ -121,7 +126,7 @@ def default_threads() -> int:
 
 def estimate(case, threads: int | None = None) -> Estimate:
     """Memory and run-time estimate of ``case`` (a :class:`dsmc.case.Case`)."""
-    cells = int(case.domain.cells)
+    cells = int(case.domain.n_cells)
     particles = int(math.ceil(case.numerics.particles_per_cell * cells))
     capacity = CAPACITY_FACTOR * particles + CAPACITY_EXTRA
     batches = int(case.run.batches)
@@ -130,6 +135,9 @@ def estimate(case, threads: int | None = None) -> Estimate:
     internal = bool(rot_dof.any() or theta_vib.any())
     per_slot = BYTES_PER_PARTICLE + (INTERNAL_ARRAYS if internal else 0)
     per_copy = COPY_BYTES_PER_PARTICLE + (INTERNAL_COPY_BYTES if internal else 0)
+    if case.domain.dim == 2:
+        per_slot += PLANAR_EXTRA_BYTES
+        per_copy += PLANAR_EXTRA_COPY_BYTES
     memory = {
         "base": BASE_BYTES,
         "particles": capacity * per_slot + particles * per_copy,

@@ -30,6 +30,7 @@ from dsmc import resources
 from dsmc.errors import UserError
 from dsmc.io.checkpoint import read_checkpoint, write_checkpoint
 from dsmc.io.results import write_results
+from dsmc.io.xdmf import write_xdmf
 from dsmc.simulation import Simulation, result_tree, set_threads
 
 EXIT_INTERRUPTED = 75
@@ -222,6 +223,8 @@ def run_case(case, output: Path, *, seed=None, threads=None, force=False, resume
         tree = result_tree(sim)
         tree["run"]["@attrs"]["ranks"] = ranks
         write_results(output, tree, overwrite=True)
+        if sim.grid.dim == 2:  # viewer mesh of the 2-D fields beside the result file
+            write_xdmf(output)
     ckpt.unlink(missing_ok=True)
     if lead and on_end is not None:
         on_end(sim)

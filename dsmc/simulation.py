@@ -16,6 +16,9 @@ The schedule is a transient of ``transient_steps`` steps, then
 steps into ``batches`` consecutive batches (for standard errors, see
 :mod:`dsmc.stats`).  Wall fluxes are accumulated on every sampling step.
 
+The domain is a 1-D slab or a 2-D planar box (:mod:`dsmc.grid`); only the
+move kernel, the cell keys and the initial placement differ between them.
+
 The class holds arrays and a schedule; it does not parse, write files or
 print.  Scripts use it directly::
 
@@ -41,35 +44,46 @@ import numpy as np
 from dsmc import stats
 from dsmc.case import Case
 from dsmc.gas import kinetic
-from dsmc.grid import UNIT_AREA, Grid1D
+from dsmc.grid import UNIT_AREA, UNIT_DEPTH, Grid1D, Grid2D
 from dsmc.gas.shock import shock_states
 from dsmc.kernels.collide import N_COLL_STATS, collide_ntc
 from dsmc.kernels.inject import N_INJECT_ACC, fill_slab_1d, inject_1d, number_flux
-from dsmc.kernels.move import N_WALL_ACC, move_1d, n_blocks
-from dsmc.kernels.rng import fill_cells_1d, fill_uniform, new_streams
+from dsmc.kernels.move import N_WALL_ACC, move_1d, move_2d, n_blocks
+from dsmc.kernels.rng import fill_cells_1d, fill_cells_2d, fill_uniform, new_streams
 from dsmc.kernels.sample import N_MOMENTS, sample_cells
-from dsmc.kernels.sort import SORT_CHUNKS, keys_1d
+from dsmc.kernels.sort import SORT_CHUNKS, keys_1d, keys_2d
 from dsmc.models import COLLISION_MODELS, open_row, wall_row
 from dsmc.particles import Particles
 from dsmc.steady import relative_errors, steady, target_reached
 
 BLOCK_SIZE = 4096  # particles per random stream in the move kernel
 RELAX_STEPS = 500.0  # steps over which a 'pressure' side's reservoir drift follows the gas
-WALL_NORMALS = (np.array([1.0, 0.0]), np.array([-1.0, 0.0]))  # into the gas at xmin, xmax
 
 
 @dataclass
 class _Batch:
     moments: np.ndarray  # (cells, species, 13)
-    walls: np.ndarray  # (2, 5)
+    walls: np.ndarray  # (sides, 5): 2 sides in 1-D, 4 in 2-D
     collisions: np.ndarray  # (cells, 2)
     inflow: np.ndarray  # (2, 5): count, momentum, energy of the molecules injected per side
     samples: int = 0
     steps: int = 0
 
 
+def make_grid(domain) -> Grid1D | Grid2D:
+    """The grid of a ``[domain]``: a 1-D slab or a 2-D planar box."""
+    if domain.dim == 2:
+        return Grid2D(domain.length, domain.height, domain.cells, domain.cells_y)
+    return Grid1D(domain.length, domain.cells)
+
+
 class Simulation:
-    """A 1-D planar DSMC run of one case."""
+    """A DSMC run of one case: a 1-D slab or a 2-D planar box (``self.grid``).
+
+    Everything but the move, the cell keys and the initial placement is shared:
+    cells are numbered flat (``ix + nx * iy`` in 2-D), so the sort, the
+    collisions, the sampling, the batches and the checkpoints see only a
+    list of cells and a list of sides (``grid.sides``)."""
 
     def __init__(self, case: Case, seed: int | None = None, replica: int | None = None):
         """``replica`` (ensemble member number) gives independent random streams
@@ -78,7 +92,8 @@ class Simulation:
         self.seed = case.run.seed if seed is None else int(seed)
         self.replica = replica
         gas = case.gas
-        self.grid = Grid1D(case.domain.length, case.domain.cells)
+        self.grid = make_grid(case.domain)
+        self.n_sides = len(self.grid.sides)
         self.species = list(gas.all_species)
         self.mole_fractions = np.array(gas.mole_fractions, dtype=float)
         self.mass = np.array([s.mass for s in self.species])
@@ -124,10 +139,11 @@ class Simulation:
         # sort starts: cells 0..nc-1, then the bin of removed particles (open sides)
         self._key_start = np.zeros(nc + 2, dtype=np.int64)
         self.cell_start = self._key_start[: nc + 1]
-        self.particles = Particles(int(1.2 * n_target) + 16, dim=1, internal=self.internal)
+        self.particles = Particles(int(1.2 * n_target) + 16, dim=self.grid.dim,
+                                   internal=self.internal)
         # per-chunk counts of the sort keys: cells, then the removed-particle bin
         self._hist = np.zeros((SORT_CHUNKS, nc + 1), dtype=np.int32)
-        self._wall_acc = np.zeros((self.move_state.shape[0], 2, N_WALL_ACC))
+        self._wall_acc = np.zeros((self.move_state.shape[0], self.n_sides, N_WALL_ACC))
         self._acc_blocks = 0  # blocks the move kernel filled in the last step
         self._coll = np.zeros((nc, N_COLL_STATS))
         self.step_count = 0
@@ -139,7 +155,7 @@ class Simulation:
         self.steady_detected = False
         self.stop_reason = ""
         self.windows: list[np.ndarray] = []
-        self._win_sum = np.zeros(9)
+        self._win_sum = np.zeros(4 * self.n_sides + 1)  # see _monitor_values
         self._win_steps = 0
         self._target_history: list[np.ndarray] = []
         # ensembles replace this by a mean over the replicas, so that every replica
@@ -216,13 +232,18 @@ class Simulation:
                                                                  w.number_density, self.model)))
                 speed = max(speed, float(kinetic.most_probable_speed(w.temperature, sp.mass))
                             + abs(w.velocity[0]))
-        return min(num.collision_time_fraction * tau, num.transit_fraction * self.grid.dx / speed)
+        return min(num.collision_time_fraction * tau,
+                   num.transit_fraction * self.grid.cell_size / speed)
 
     def _initial_profiles(self):
-        """Cell-centre temperature, drift and relative density of the initial gas."""
+        """Cell-centre temperature, drift and relative density of the initial gas
+        (uniform in 2-D)."""
         case = self.case
-        xc = self.grid.centers / self.grid.length
         nc = self.grid.cells
+        if self.grid.dim == 2:
+            return (np.full(nc, case.gas.temperature),
+                    np.tile(np.asarray(case.gas.velocity, dtype=float), (nc, 1)), np.ones(nc))
+        xc = self.grid.centers / self.grid.length
         if self.shock is not None:  # the Rankine-Hugoniot step at the shock position
             st = self.shock
             down = xc >= case.shock.position
@@ -254,13 +275,17 @@ class Simulation:
         np.cumsum(counts, out=start[1:])
         n = int(start[-1])
         # the weight makes the particles present carry exactly the case's gas amount
-        self.weight = self.initial_mean_density() * self.grid.length * UNIT_AREA / max(n, 1)
+        self.weight = self.initial_mean_density() * self.grid.volume / max(n, 1)
         self._reserve(n)
         p = self.particles
         p.n = n
         sigma = np.sqrt(kinetic.K_B * T / self.mass[0])
-        fill_cells_1d(self.init_state, 0, start, self.grid.dx, sigma, np.ascontiguousarray(u),
-                      p.pos, p.v)
+        if self.grid.dim == 2:
+            fill_cells_2d(self.init_state, 0, start, self.grid.nx, self.grid.dx, self.grid.dy,
+                          sigma, np.ascontiguousarray(u), p.pos, p.v)
+        else:
+            fill_cells_1d(self.init_state, 0, start, self.grid.dx, sigma, np.ascontiguousarray(u),
+                          p.pos, p.v)
         p.sp[:n] = 0
         cell = np.repeat(np.arange(counts.size), counts)
         if len(self.species) > 1:
@@ -314,7 +339,8 @@ class Simulation:
             seq = np.random.SeedSequence(self.seed, spawn_key=key + (3, self.move_state.shape[0]))
             self.move_state = np.concatenate([self.move_state, new_streams(seq, extra)])
             # keep what the move kernel accumulated this step (injection reserves after the move)
-            self._wall_acc = np.concatenate([self._wall_acc, np.zeros((extra, 2, N_WALL_ACC))])
+            self._wall_acc = np.concatenate([self._wall_acc,
+                                             np.zeros((extra, self.n_sides, N_WALL_ACC))])
 
     # --------------------------------------------------------------- particles
 
@@ -324,7 +350,7 @@ class Simulation:
 
     @property
     def positions(self) -> np.ndarray:
-        """Live particle positions, shape (n, 1), m (a view: writes change the run)."""
+        """Live particle positions, shape (n, dim), m (a view: writes change the run)."""
         return self.particles.pos[: self.particles.n]
 
     @property
@@ -350,16 +376,17 @@ class Simulation:
     def set_particles(self, positions: np.ndarray, velocities: np.ndarray,
                       species: np.ndarray | None = None, rotational_energies=None,
                       vibrational_levels=None):
-        """Replace all particles (positions (n,) or (n, 1) in [0, L], velocities (n, 3);
-        optional species indices, rotational energies (J) and vibrational levels, else 0)."""
-        pos = np.asarray(positions, dtype=float).reshape(-1, 1)
+        """Replace all particles (positions (n,) or (n, 1) in [0, L] in 1-D, (n, 2) in the box
+        in 2-D; velocities (n, 3); optional species indices, rotational energies (J) and
+        vibrational levels, else 0)."""
+        pos = np.asarray(positions, dtype=float).reshape(-1, self.grid.dim)
         vel = np.asarray(velocities, dtype=float).reshape(-1, 3)
         if pos.shape[0] != vel.shape[0]:
             raise ValueError("positions and velocities differ in length")
         sp = np.zeros(pos.shape[0], dtype=int) if species is None else np.asarray(species)
         if sp.shape != (pos.shape[0],) or np.any(sp < 0) or np.any(sp >= len(self.species)):
             raise ValueError("species indices of the wrong length or out of range")
-        if np.any(pos < 0) or np.any(pos > self.grid.length):
+        if np.any(pos < 0) or np.any(pos > np.array(self.grid.extent)):
             raise ValueError("positions outside the domain")
         self._reserve(pos.shape[0])
         p = self.particles
@@ -382,16 +409,25 @@ class Simulation:
         particles (``pos < 0``, key ``cells``) go to the extra last bin and are dropped."""
         p = self.particles
         nc = self.grid.cells
-        if not counted:
-            keys_1d(p.pos, p.n, self.grid.length, nc, p.key)
+        g = self.grid
+        if not counted and g.dim == 2:
+            keys_2d(p.pos, p.n, g.lx, g.ly, g.nx, g.ny, p.key)
+        elif not counted:
+            keys_1d(p.pos, p.n, g.length, nc, p.key)
         p.sort(nc + 1, self._hist, self._key_start, BLOCK_SIZE, counted)
         p.n = int(self._key_start[nc])
 
     def _move(self):
         p = self.particles
-        move_1d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, self.dt, self.grid.length, self.walls,
+        g = self.grid
+        if g.dim == 2:
+            move_2d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, self.dt, g.lx, g.ly, self.walls,
+                    self.mass, self.rot_dof, self.theta_vib, self.move_state, BLOCK_SIZE,
+                    self._wall_acc, g.nx, g.ny, p.key, self._hist)
+            return
+        move_1d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, self.dt, g.length, self.walls,
                 self.mass, self.rot_dof, self.theta_vib, self.move_state, BLOCK_SIZE,
-                self._wall_acc, self.grid.cells, p.key, self._hist)
+                self._wall_acc, g.cells, p.key, self._hist)
 
     def _collide(self):
         p = self.particles
@@ -555,7 +591,7 @@ class Simulation:
 
     def _new_batch(self) -> _Batch:
         nc, ns = self.grid.cells, len(self.species)
-        return _Batch(np.zeros((nc, ns, N_MOMENTS)), np.zeros((2, N_WALL_ACC)),
+        return _Batch(np.zeros((nc, ns, N_MOMENTS)), np.zeros((self.n_sides, N_WALL_ACC)),
                       np.zeros((nc, N_COLL_STATS)), np.zeros((2, N_INJECT_ACC)))
 
     def reset_samples(self, interval: int | None = None):
@@ -614,13 +650,13 @@ class Simulation:
         r = self.case.run
         if r.target_quantities:
             return r.target_quantities
-        w0, w1 = self.case.walls
-        if w0.is_open or w1.is_open:  # reservoir states are not wall motions or temperatures
+        walls = self.case.walls
+        if any(w.is_open for w in walls):  # reservoir states are not wall motions or temperatures
             return ("bulk_temperature",)
         q = []
-        if w0.velocity != w1.velocity:
+        if len({w.velocity for w in walls}) > 1:
             q.append("bulk_shear_stress")
-        if w0.temperature != w1.temperature:
+        if len({w.temperature for w in walls}) > 1:
             q.append("bulk_heat_flux")
         return tuple(q) or ("bulk_temperature",)
 
@@ -721,7 +757,7 @@ class Simulation:
             p.erot[:n], p.vib[:n] = st["erot"], st["vib"]
         for k in self._STATE_ARRAYS:
             setattr(self, k, np.array(st[k], dtype=getattr(self, k).dtype))
-        self._wall_acc = np.zeros((self.move_state.shape[0], 2, N_WALL_ACC))
+        self._wall_acc = np.zeros((self.move_state.shape[0], self.n_sides, N_WALL_ACC))
         for k in self._STATE_SCALARS:
             setattr(self, k, type(getattr(self, k))(st[k]))
         self.phase = str(st["phase"])
@@ -761,11 +797,13 @@ class Simulation:
                 for k in total}
 
     def wall_fields(self) -> list[dict[str, tuple[np.ndarray, np.ndarray]]]:
-        """Per wall (xmin, xmax): ``{name: (mean, standard error)}``."""
+        """Per side (``grid.sides``: xmin, xmax[, ymin, ymax]):
+        ``{name: (mean, standard error)}``."""
         batches = self._closed_batches()
         out = []
-        for w in range(2):
-            args = (self.weight, UNIT_AREA, WALL_NORMALS[w], self.walls[w, 2:5])
+        for w in range(self.n_sides):
+            args = (self.weight, self.grid.side_areas[w], self.grid.normals[w],
+                    self.walls[w, 2:5])
             per = [stats.wall_fields(b.walls[w], b.steps * self.dt, *args) for b in batches]
             total = stats.wall_fields(sum(b.walls[w] for b in batches),
                                       sum(b.steps for b in batches) * self.dt, *args)
@@ -834,16 +872,25 @@ class Simulation:
         return {"collision_rate": rate, "collisions": float(n_col),
                 "mean_collision_separation": mcs}
 
+    def reference_length(self) -> float:
+        """Length of the Knudsen number: the slab width in 1-D; in 2-D the smallest extent
+        between walls (a periodic axis is unbounded), or the smallest extent if both are."""
+        g = self.grid
+        if g.dim == 1:
+            return g.length
+        walled = [e for a, e in enumerate(g.extent) if self.case.walls[2 * a].model != "periodic"]
+        return min(walled or g.extent)
+
     def adequacy(self, measured: bool = False) -> dict[str, float]:
         """Numerical adequacy figures; with ``measured``, from the sampled run."""
         ref = self.reference_state()
         lam, tau = ref["mean_free_path"], ref["mean_collision_time"]
         out = {
-            "cell_size_over_mean_free_path": self.grid.dx / lam,
+            "cell_size_over_mean_free_path": self.grid.cell_size / lam,
             "time_step_over_collision_time": self.dt / tau,
-            "cell_transit_fraction": self.dt * ref["most_probable_speed"] / self.grid.dx,
+            "cell_transit_fraction": self.dt * ref["most_probable_speed"] / self.grid.cell_size,
             "particles_per_cell": self.n_particles / self.grid.cells,
-            "knudsen_number": lam / self.grid.length,
+            "knudsen_number": lam / self.reference_length(),
         }
         if measured:
             f = self.fields()
@@ -885,18 +932,48 @@ def adequacy_warnings(figures: dict[str, float]) -> list[str]:
     return out
 
 
+def grid_shaped(grid, values: np.ndarray, axis: int = 0) -> np.ndarray:
+    """A per-cell array with its cell axis ``axis`` (flat, ``ix + nx * iy``) reshaped to
+    ``(ny, nx)`` on a 2-D grid (C order: ``[iy, ix]``); unchanged on a 1-D grid."""
+    if grid.dim == 1:
+        return values
+    shape = values.shape
+    return values.reshape(shape[:axis] + (grid.ny, grid.nx) + shape[axis + 1:])
+
+
 def batch_tree(sim: Simulation) -> dict:
-    """Per-batch profiles (B, N), for batch-means errors of averages and fits."""
+    """Per-batch profiles (B, N), or (B, ny, nx) in 2-D, for batch-means errors of averages
+    and fits."""
     from dsmc.io.results import Data
 
     per = sim.batch_fields()
+
+    def per_batch(get):
+        return grid_shaped(sim.grid, np.stack([get(f) for f in per]), axis=1)
+
     return {
         "@attrs": {"description": "per-batch cell fields (batch b alone), for batch-means "
                                   "errors of averages and fits"},
-        "velocity_y": Data(np.stack([f["velocity"][:, 1] for f in per]), "m/s"),
-        "temperature": Data(np.stack([f["temperature"] for f in per]), "K"),
-        "shear_stress": Data(np.stack([f["pressure_tensor"][:, 0, 1] for f in per]), "Pa"),
-        "heat_flux_x": Data(np.stack([f["heat_flux"][:, 0] for f in per]), "W/m^2"),
+        "velocity_y": Data(per_batch(lambda f: f["velocity"][:, 1]), "m/s"),
+        "temperature": Data(per_batch(lambda f: f["temperature"]), "K"),
+        "shear_stress": Data(per_batch(lambda f: f["pressure_tensor"][:, 0, 1]), "Pa"),
+        "heat_flux_x": Data(per_batch(lambda f: f["heat_flux"][:, 0]), "W/m^2"),
+    }
+
+
+def grid_tree(grid) -> dict:
+    """The ``/grid`` group: cell centres and edges, cell volumes."""
+    from dsmc.io.results import Data
+
+    if grid.dim == 1:
+        return {"x": Data(grid.centers, "m"), "x_edges": Data(grid.edges, "m"),
+                "cell_volume": Data(grid.volumes, "m^3")}
+    return {
+        "@attrs": {"shape": np.array([grid.ny, grid.nx]), "cell_order": "ix + nx * iy",
+                   "depth": UNIT_DEPTH},
+        "x": Data(grid.x_centers, "m"), "y": Data(grid.y_centers, "m"),
+        "x_edges": Data(grid.x_edges, "m"), "y_edges": Data(grid.y_edges, "m"),
+        "cell_volume": Data(grid_shaped(grid, grid.volumes), "m^3"),
     }
 
 
@@ -920,9 +997,14 @@ def result_tree(sim: Simulation) -> dict:
             out[name + "_stderr"] = Data(err, group_units[name])
         return out
 
+    def cell_pair(values):
+        return pair(stats.FIELD_UNITS, {k: (grid_shaped(sim.grid, m), grid_shaped(sim.grid, e))
+                                        for k, (m, e) in values.items()})
+
     tree = {
         "@attrs": {"title": case.title, "package_version": __version__,
-                   "created": time.strftime("%Y-%m-%dT%H:%M:%S%z"), "dimension": 1},
+                   "created": time.strftime("%Y-%m-%dT%H:%M:%S%z"),
+                   "dimension": sim.grid.dim},
         "case": {"@attrs": {"path": str(case.path), "text": case.text}},
         "gas": {
             "@attrs": {"species": ";".join(s.name for s in sim.species),
@@ -958,16 +1040,12 @@ def result_tree(sim: Simulation) -> dict:
             "@attrs": {"warnings": "\n".join(adequacy_warnings(adequacy))},
             **{k: Data(v, "1") for k, v in adequacy.items()},
         },
-        "grid": {
-            "x": Data(sim.grid.centers, "m"),
-            "x_edges": Data(sim.grid.edges, "m"),
-            "cell_volume": Data(sim.volume, "m^3"),
-        },
-        "fields": pair(stats.FIELD_UNITS, fields),
+        "grid": grid_tree(sim.grid),
+        "fields": cell_pair(fields),
         "batches": batch_tree(sim),
         "walls": {},
     }
-    for side, w, spec, normal in zip(("xmin", "xmax"), walls, case.walls, WALL_NORMALS):
+    for side, w, spec, normal in zip(sim.grid.sides, walls, case.walls, sim.grid.normals):
         if spec.is_open:
             continue  # written below with the fluxes through the side
         g = pair(stats.WALL_UNITS, w)
@@ -977,9 +1055,11 @@ def result_tree(sim: Simulation) -> dict:
         g["temperature"] = Data(spec.temperature, "K")
         g["velocity"] = Data(np.asarray(spec.velocity), "m/s")
         g["normal"] = Data(np.array([normal[0], normal[1], 0.0]), "1")
+        if sim.grid.dim == 2:
+            g["area"] = Data(sim.grid.side_areas[sim.grid.sides.index(side)], "m^2")
         tree["walls"][side] = g
-    for side, spec, fl, normal in zip(("xmin", "xmax"), case.walls, sim.open_side_fluxes(),
-                                      WALL_NORMALS):
+    for side, spec, fl, normal in zip(sim.grid.sides, case.walls, sim.open_side_fluxes(),
+                                      sim.grid.normals):
         if fl is None:
             continue
         g = pair({k: stats.FLUX_UNITS[k.split("_", 1)[1]] for k in fl}, fl)

@@ -57,6 +57,8 @@ def read(path: Path) -> dict:
         if schema != SCHEMA or version not in VERSIONS:
             raise ValueError(f"not a {SCHEMA} file of version {VERSIONS} "
                              f"(schema '{schema}', version {version})")
+        if int(f.attrs.get("dimension", 1)) != 1:
+            raise ValueError("a 2-D result file: plot it with tools/plot_2d.py")
         out = {"title": text(f.attrs.get("title", path.stem)),
                "x": f["grid/x"][()], "x_units": text(f["grid/x"].attrs["units"]),
                "length": float(f["grid/x_edges"][-1]), "walls": {}}

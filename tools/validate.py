@@ -11,6 +11,9 @@ normal shock the Rankine-Hugoniot states and the inverse density thickness measu
 (1976), values from memory (``tests/test_shock.py``), on finer cells and longer runs than the
 tests.
 
+2-D planar box (``--only planar``): plane Couette flow in a box periodic in x against the 1-D
+slab of the same gap.
+
 Molecular gases and mixtures (``--only internal`` runs these alone): rotational relaxation
 against the Jeans equation with the case's Z_rot; nitrogen conductivity from the shipped
 near-continuum Fourier gap against the Eucken relation and CoolProp; nitrogen viscosity from a
@@ -251,22 +254,38 @@ def internal_energy(scale):
             _coolprop("V", Tc, 100e3, f"HEOS::Helium[{x:.6f}]&Argon[{1 - x:.6f}]"))
 
 
+def planar_2d(scale):
+    """2-D box periodic in x between y walls: wall shear against the 1-D slab of the same gap
+    (``tests/test_planar_2d.py``, here with 4x the particles and samples)."""
+    from test_planar_2d import GAP, _couette_1d, _couette_2d, _profile_and_error, _wall_shear
+
+    one = _couette_1d(samples=12000 * scale, ppc=800)
+    two = _couette_2d(samples=12000 * scale, ppc=200)
+    t1, _ = _profile_and_error([0.5 * (a - b) for a, b in zip(*_wall_shear(one, 0, 1, 1))])
+    t2, s2 = _profile_and_error([0.5 * (a - b) for a, b in zip(*_wall_shear(two, 2, 3, 0))])
+    row(f"2-D Couette wall shear, gap {GAP * 1e3:g} mm, vs 1-D slab", t2, s2, t1)
+
+
 def main():
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--threads", type=int, default=None)
     p.add_argument("--long", action="store_true", help="twice the sampling of every run")
-    p.add_argument("--only", choices=("internal",), help="run only the molecular-gas and mixture checks")
+    p.add_argument("--only", choices=("internal", "planar"),
+                   help="run only the molecular-gas and mixture checks, or the 2-D checks")
     args = p.parse_args()
     set_threads(args.threads)
     scale = 2 if args.long else 1
     print(f"{'check':58s} {'DSMC':>12s}    {'stderr':>9s}   {'reference':>16s}   {'dev':>7s}")
-    if args.only != "internal":
+    if args.only is None:
         collision_rates(scale)
         free_molecular(scale)
         near_continuum(scale)
         fourier_kn001(scale)
         shock_structure(scale)
-    internal_energy(scale)
+    if args.only in (None, "internal"):
+        internal_energy(scale)
+    if args.only in (None, "planar"):
+        planar_2d(scale)
 
 
 if __name__ == "__main__":

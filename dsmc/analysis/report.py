@@ -123,6 +123,8 @@ def _alpha(attrs: dict, side: str, path) -> tuple[float, str]:
 def load(path) -> ResultData:
     """Read a result file into :class:`ResultData` (raises UserError on a bad file)."""
     tree = read_results(path)
+    if int(tree.get("@attrs", {}).get("dimension", 1)) != 1:
+        raise UserError(f"{path}: a 2-D result file; the gap limits are for a 1-D slab")
     try:
         gas = tree["gas"]["@attrs"]
         species = str(gas["species"]).split(";")

@@ -14,6 +14,9 @@ hit with ``v_out = 0`` (so the accumulator holds the number, momentum and
 energy that left) and marked removed by ``pos[i, 0] = -1``; its cell key is
 the extra bin ``n_cells``, which the sort puts last and the caller drops.
 
+In 2-D (:func:`move_2d`) the four sides are rows 0..3 (xmin, xmax, ymin,
+ymax) and the same accumulator layout has four walls per block.
+
 Particle ``i`` belongs to block ``i // block_size``, and block ``b`` draws its
 random numbers from stream ``b``: the result does not depend on how blocks are
 spread over threads.
@@ -34,12 +37,12 @@ MAX_HITS = 100_000
 
 
 @nb.njit(inline="always")
-def _hit(v, wall, nx, mass, state, b, acc_row, erot, vib, i, rot_dof, theta_vib):
+def _hit(v, wall, nx, ny, mass, state, b, acc_row, erot, vib, i, rot_dof, theta_vib):
     e_in = v[0] * v[0] + v[1] * v[1] + v[2] * v[2]
     p0 = v[0]
     p1 = v[1]
     p2 = v[2]
-    used = reflect(v, nx, 0.0, wall, mass, state, b)
+    used = reflect(v, nx, ny, wall, mass, state, b)
     de = reemit_internal(erot, vib, i, used, wall, rot_dof, theta_vib, state, b)
     acc_row[0] += 1.0
     acc_row[1] += mass * (p0 - v[0])
@@ -81,11 +84,11 @@ def _fly(pos, v, erot, vib, i, dt, length, walls, m, rot_dof, theta_vib, state, 
         elif xn < 0.0:
             t -= xi / (-vi[0])
             xi = 0.0
-            _hit(vi, walls[0], 1.0, m, state, b, acc[b, 0], erot, vib, i, rot_dof, theta_vib)
+            _hit(vi, walls[0], 1.0, 0.0, m, state, b, acc[b, 0], erot, vib, i, rot_dof, theta_vib)
         elif xn > length:
             t -= (length - xi) / vi[0]
             xi = length
-            _hit(vi, walls[1], -1.0, m, state, b, acc[b, 1], erot, vib, i, rot_dof, theta_vib)
+            _hit(vi, walls[1], -1.0, 0.0, m, state, b, acc[b, 1], erot, vib, i, rot_dof, theta_vib)
         else:
             xi = xn
             break
@@ -141,6 +144,125 @@ def move_1d(pos, v, sp, erot, vib, n, dt, length, walls, mass, rot_dof, theta_vi
                     k = n_cells
                 else:
                     k = min(int(x * scale), n_cells - 1)
+                key[i] = k
+                row[k] += 1
+
+
+@nb.njit(cache=True)
+def _fly_2d(pos, v, erot, vib, i, dt, lx, ly, walls, per_x, per_y, m, rot_dof, theta_vib,
+            state, b, acc):
+    """Flight of particle ``i`` of a 2-D box that crosses a wall during the step.
+
+    The straight path ``r + v t`` meets the side ``x = 0`` at ``t = -x / v_x``
+    (``v_x < 0``), ``x = lx`` at ``(lx - x) / v_x`` (``v_x > 0``), likewise in
+    y; the earliest crossing within the remaining time is taken, the particle
+    is put on it (its coordinate normal to the side set exactly to the side)
+    and re-emitted, and the rest of the step is flown with the new velocity.
+    A corner (x and y crossings at the same time) is deterministic: the x side
+    first, then the y side at zero remaining distance.  A periodic axis has no
+    crossing; its coordinate is wrapped by the caller.  Writes the final
+    position to ``pos[i]``.
+    """
+    vi = v[i]
+    x = pos[i, 0]
+    y = pos[i, 1]
+    t = dt
+    hits = 0
+    while True:
+        tx = t + 1.0  # no x crossing within the remaining time
+        ty = t + 1.0
+        if not per_x:
+            xn = x + vi[0] * t
+            if xn < 0.0:
+                tx = max(0.0, -x / vi[0])
+            elif xn > lx:
+                tx = max(0.0, (lx - x) / vi[0])
+        if not per_y:
+            yn = y + vi[1] * t
+            if yn < 0.0:
+                ty = max(0.0, -y / vi[1])
+            elif yn > ly:
+                ty = max(0.0, (ly - y) / vi[1])
+        if tx > t and ty > t:
+            x += vi[0] * t
+            y += vi[1] * t
+            break
+        if tx <= ty:
+            y += vi[1] * tx
+            t -= tx
+            if vi[0] < 0.0:
+                x = 0.0
+                _hit(vi, walls[0], 1.0, 0.0, m, state, b, acc[b, 0], erot, vib, i, rot_dof,
+                     theta_vib)
+            else:
+                x = lx
+                _hit(vi, walls[1], -1.0, 0.0, m, state, b, acc[b, 1], erot, vib, i, rot_dof,
+                     theta_vib)
+        else:
+            x += vi[0] * ty
+            t -= ty
+            if vi[1] < 0.0:
+                y = 0.0
+                _hit(vi, walls[2], 0.0, 1.0, m, state, b, acc[b, 2], erot, vib, i, rot_dof,
+                     theta_vib)
+            else:
+                y = ly
+                _hit(vi, walls[3], 0.0, -1.0, m, state, b, acc[b, 3], erot, vib, i, rot_dof,
+                     theta_vib)
+        hits += 1
+        if t <= 0.0 or hits >= MAX_HITS:
+            break
+    pos[i, 0] = x
+    pos[i, 1] = y
+
+
+@nb.njit(parallel=True, cache=True)
+def move_2d(pos, v, sp, erot, vib, n, dt, lx, ly, walls, mass, rot_dof, theta_vib, state,
+            block_size, acc, nx, ny, key, hist):
+    """Advance particles ``0..n-1`` of a 2-D box ``[0, lx] x [0, ly]`` by ``dt``.
+
+    The 2-D counterpart of :func:`move_1d`, with the same arguments except:
+    ``pos`` has shape (n, 2); ``walls`` has four rows (xmin, xmax, ymin, ymax),
+    a periodic pair wraps its axis; ``acc`` has shape
+    ``(n_blocks, 4, N_WALL_ACC)``; the grid has ``nx`` x ``ny`` cells and the
+    key of a particle in cell ``(ix, iy)`` is ``ix + nx * iy``
+    (:func:`dsmc.kernels.sort.keys_2d`), with the histogram (``nx * ny + 1``
+    columns, the last one the unused removed-particle bin) of the same chunks
+    and blocks.  Open sides are not handled here.
+    """
+    n_chunks, size = chunk_layout(n, block_size)
+    per_x = int(walls[0, W_MODEL]) == PERIODIC
+    per_y = int(walls[2, W_MODEL]) == PERIODIC
+    n_cells = nx * ny
+    sx = nx / lx
+    sy = ny / ly
+    for ch in nb.prange(n_chunks):
+        row = hist[ch]
+        for k in range(n_cells + 1):
+            row[k] = 0
+        c_lo = ch * size
+        c_hi = min(n, c_lo + size)
+        for b in range(c_lo // block_size, (c_hi + block_size - 1) // block_size):
+            for w in range(4):
+                for k in range(N_WALL_ACC):
+                    acc[b, w, k] = 0.0
+            for i in range(b * block_size, min(c_hi, (b + 1) * block_size)):
+                x = pos[i, 0] + v[i, 0] * dt
+                y = pos[i, 1] + v[i, 1] * dt
+                if ((not per_x and (x < 0.0 or x > lx))
+                        or (not per_y and (y < 0.0 or y > ly))):
+                    si = sp[i]
+                    _fly_2d(pos, v, erot, vib, i, dt, lx, ly, walls, per_x, per_y, mass[si],
+                            rot_dof[si], theta_vib[si], state, b, acc)
+                    x = pos[i, 0]
+                    y = pos[i, 1]
+                if per_x:
+                    x = x % lx
+                if per_y:
+                    y = y % ly
+                pos[i, 0] = x
+                pos[i, 1] = y
+                k = min(int(x * sx), nx - 1) + nx * min(int(y * sy), ny - 1)
                 key[i] = k
                 row[k] += 1
 

@@ -100,3 +100,18 @@ def fill_cells_1d(state, s, cell_start, dx, sigma, drift, pos, v):
             pos[i, 0] = (c + uniform(state, s)) * dx
             for k in range(3):
                 v[i, k] = drift[c, k] + sigma[c] * normal(state, s)
+
+
+@nb.njit(cache=True)
+def fill_cells_2d(state, s, cell_start, nx, dx, dy, sigma, drift, pos, v):
+    """:func:`fill_cells_1d` on an ``nx``-wide 2-D grid: particles
+    ``cell_start[c] .. cell_start[c+1]`` go uniformly into cell
+    ``c = ix + nx * iy`` (``ix dx <= x < (ix+1) dx``, likewise in y)."""
+    for c in range(cell_start.size - 1):
+        ix = c % nx
+        iy = c // nx
+        for i in range(cell_start[c], cell_start[c + 1]):
+            pos[i, 0] = (ix + uniform(state, s)) * dx
+            pos[i, 1] = (iy + uniform(state, s)) * dy
+            for k in range(3):
+                v[i, k] = drift[c, k] + sigma[c] * normal(state, s)

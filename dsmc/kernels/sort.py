@@ -59,6 +59,22 @@ def keys_1d(pos, n, length, n_cells, key):
 
 
 @nb.njit(parallel=True, cache=True)
+def keys_2d(pos, n, lx, ly, nx, ny, key):
+    """Cell index ``ix + nx * iy`` of each particle of a uniform ``nx`` x ``ny`` grid on
+    ``[0, lx] x [0, ly]`` (a coordinate on the far side belongs to the last cell)."""
+    sx = nx / lx
+    sy = ny / ly
+    for i in nb.prange(n):
+        ix = int(pos[i, 0] * sx)
+        if ix >= nx:
+            ix = nx - 1
+        iy = int(pos[i, 1] * sy)
+        if iy >= ny:
+            iy = ny - 1
+        key[i] = ix + nx * iy
+
+
+@nb.njit(parallel=True, cache=True)
 def histogram(key, n, n_keys, block_size, hist):
     """``hist[ch, k]``: particles of chunk ``ch`` with key ``k`` (rows beyond
     the chunks in use are left alone)."""

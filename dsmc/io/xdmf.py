@@ -1,0 +1,78 @@
+"""XDMF sidecar of a 2-D result file, so that general-purpose viewers open its fields.
+
+XDMF 3 (the eXtensible Data Model and Format, an open standard: light XML
+describing heavy data kept in HDF5) describes the grid and points at the
+HDF5 datasets; no data is copied.  The grid is a uniform rectilinear mesh
+(``2DCoRectMesh``) with ``(ny + 1) x (nx + 1)`` nodes, its origin and spacing
+given slowest axis first (``y x``), as XDMF orders them like the HDF5
+dimensions ``[iy, ix]`` of the cell fields.  Every ``/fields`` dataset of
+shape ``(ny, nx)`` becomes a cell-centred ``Scalar`` attribute, and those of
+shape ``(ny, nx, 3)`` named in ``VECTOR_FIELDS`` a cell-centred ``Vector``;
+the standard errors (``*_stderr``) are included the same way.  Other
+datasets (the pressure tensor, per-species fields) stay in the HDF5 file only.
+
+This module reads HDF5 with h5py and writes XML with the standard library:
+it does not import the engine.
+"""
+
+from __future__ import annotations
+
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
+import h5py
+
+VECTOR_FIELDS = ("velocity", "heat_flux", "temperature_components")
+
+
+def xdmf_path(results: str | Path) -> Path:
+    """``OUT.xmf`` beside ``OUT.h5``."""
+    return Path(results).with_suffix(".xmf")
+
+
+def write_xdmf(results: str | Path, out: str | Path | None = None) -> Path:
+    """Write the XDMF sidecar of the 2-D result file ``results``; returns its path.
+
+    Raises ``ValueError`` for a 1-D result file (its profiles need no viewer mesh).
+    """
+    results = Path(results)
+    out = xdmf_path(results) if out is None else Path(out)
+    with h5py.File(results, "r") as f:
+        if int(f.attrs.get("dimension", 1)) != 2:
+            raise ValueError(f"{results}: not a 2-D result file")
+        x_edges = f["grid/x_edges"][()]
+        y_edges = f["grid/y_edges"][()]
+        ny, nx = y_edges.size - 1, x_edges.size - 1
+        fields = []
+        for name in sorted(f["fields"]):
+            ds = f["fields"][name]
+            base = name.removesuffix("_stderr")
+            if ds.shape == (ny, nx):
+                fields.append((name, "Scalar", ds.shape))
+            elif ds.shape == (ny, nx, 3) and base in VECTOR_FIELDS:
+                fields.append((name, "Vector", ds.shape))
+        title = str(f.attrs.get("title", ""))
+    href = results.name  # the sidecar sits beside the result file
+
+    root = ET.Element("Xdmf", Version="3.0")
+    domain = ET.SubElement(root, "Domain")
+    grid = ET.SubElement(domain, "Grid", Name=title or "fields", GridType="Uniform")
+    ET.SubElement(grid, "Topology", TopologyType="2DCoRectMesh", Dimensions=f"{ny + 1} {nx + 1}")
+    geo = ET.SubElement(grid, "Geometry", GeometryType="ORIGIN_DXDY")
+    origin = ET.SubElement(geo, "DataItem", Name="origin", Dimensions="2", NumberType="Float",
+                           Precision="8", Format="XML")
+    origin.text = f"{float(y_edges[0])!r} {float(x_edges[0])!r}"
+    spacing = ET.SubElement(geo, "DataItem", Name="spacing", Dimensions="2", NumberType="Float",
+                            Precision="8", Format="XML")
+    dy = float(y_edges[-1] - y_edges[0]) / ny
+    dx = float(x_edges[-1] - x_edges[0]) / nx
+    spacing.text = f"{dy!r} {dx!r}"
+    for name, kind, shape in fields:
+        att = ET.SubElement(grid, "Attribute", Name=name, AttributeType=kind, Center="Cell")
+        item = ET.SubElement(att, "DataItem", Dimensions=" ".join(str(s) for s in shape),
+                             NumberType="Float", Precision="8", Format="HDF")
+        item.text = f"{href}:/fields/{name}"
+    ET.indent(root)
+    text = '<?xml version="1.0" ?>\n' + ET.tostring(root, encoding="unicode") + "\n"
+    out.write_text(text)
+    return out
