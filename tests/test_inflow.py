@@ -191,3 +191,17 @@ def test_open_side_errors_are_one_line(xmin, key, expected):
     msg = str(err.value)
     assert "\n" not in msg and msg.startswith(f"c.toml: {key}"), msg
     assert expected in msg, msg
+
+
+@pytest.mark.parametrize("gas, what", [
+    ('species = "N2"', "'N2', whose internal energy is exchanged"),
+    ('species = ["He", "Ar"]\nmole_fractions = [0.5, 0.5]', "a gas mixture"),
+])
+def test_open_sides_refuse_molecular_gases_and_mixtures(gas, what):
+    """Injection draws neither internal energies nor a species mix: refused, one line."""
+    text = _case('model = "outflow"', 'model = "diffuse"').replace('species = "Ar"', gas)
+    with pytest.raises(CaseError) as err:
+        parse_case(text, "c.toml")
+    msg = str(err.value)
+    assert "\n" not in msg and msg.startswith("c.toml: boundary.xmin.model: "), msg
+    assert what in msg, msg
