@@ -98,6 +98,22 @@ def _fly(pos, v, erot, vib, i, dt, length, walls, m, rot_dof, theta_vib, state, 
     return xi
 
 
+@nb.njit(inline="always")
+def _chunk_blocks(hist, ch, n_keys, size, n, block_size, acc, n_sides):
+    """Clear chunk ``ch``'s histogram row and its blocks' wall accumulators; return the
+    chunk's particle range ``(lo, hi)`` (chunks are runs of whole blocks)."""
+    row = hist[ch]
+    for k in range(n_keys):
+        row[k] = 0
+    lo = ch * size
+    hi = min(n, lo + size)
+    for b in range(lo // block_size, (hi + block_size - 1) // block_size):
+        for w in range(n_sides):
+            for k in range(N_WALL_ACC):
+                acc[b, w, k] = 0.0
+    return lo, hi
+
+
 @nb.njit(parallel=True, cache=True)
 def move_1d(pos, v, sp, erot, vib, n, dt, length, walls, mass, rot_dof, theta_vib, state,
             block_size, acc, n_cells, key, hist):
@@ -122,15 +138,9 @@ def move_1d(pos, v, sp, erot, vib, n, dt, length, walls, mass, rot_dof, theta_vi
     periodic = int(walls[0, W_MODEL]) == PERIODIC
     scale = n_cells / length
     for ch in nb.prange(n_chunks):
+        c_lo, c_hi = _chunk_blocks(hist, ch, n_cells + 1, size, n, block_size, acc, 2)
         row = hist[ch]
-        for k in range(n_cells + 1):
-            row[k] = 0
-        c_lo = ch * size
-        c_hi = min(n, c_lo + size)
         for b in range(c_lo // block_size, (c_hi + block_size - 1) // block_size):
-            for w in range(2):
-                for k in range(N_WALL_ACC):
-                    acc[b, w, k] = 0.0
             for i in range(b * block_size, min(c_hi, (b + 1) * block_size)):
                 x = pos[i, 0] + v[i, 0] * dt
                 if periodic:
@@ -237,15 +247,9 @@ def move_2d(pos, v, sp, erot, vib, n, dt, lx, ly, walls, mass, rot_dof, theta_vi
     sx = nx / lx
     sy = ny / ly
     for ch in nb.prange(n_chunks):
+        c_lo, c_hi = _chunk_blocks(hist, ch, n_cells + 1, size, n, block_size, acc, 4)
         row = hist[ch]
-        for k in range(n_cells + 1):
-            row[k] = 0
-        c_lo = ch * size
-        c_hi = min(n, c_lo + size)
         for b in range(c_lo // block_size, (c_hi + block_size - 1) // block_size):
-            for w in range(4):
-                for k in range(N_WALL_ACC):
-                    acc[b, w, k] = 0.0
             for i in range(b * block_size, min(c_hi, (b + 1) * block_size)):
                 x = pos[i, 0] + v[i, 0] * dt
                 y = pos[i, 1] + v[i, 1] * dt
