@@ -27,13 +27,13 @@ def test_bench_runs_and_writes_json(tmp_path):
 
     res = json.loads(out.read_text())
     for key in ("machine", "case", "targets", "main", "triad_Bps", "triad_ws_Bps",
-                "bytes_per_particle_step", "scaling", "memory", "startup", "summary"):
+                "bytes_per_particle_step", "scaling", "memory", "startup", "cavity", "summary"):
         assert key in res, key
     s = res["summary"]
     for key in ("single_thread_particle_steps_per_s", "floor_particle_steps_per_s",
                 "bandwidth_fraction", "bytes_per_particle_step", "collisions_per_particle_per_step",
                 "scaling_spread_1", "bytes_per_particle", "bytes_per_particle_tracemalloc",
-                "warm_start_s"):
+                "warm_start_s", "cavity_particle_steps_per_s_per_core"):
         assert key in s, key
         assert isinstance(s[key], (int, float)), key
 
@@ -46,3 +46,4 @@ def test_bench_runs_and_writes_json(tmp_path):
     assert [r["particles"] for r in res["scaling"]] == sorted(r["particles"] for r in res["scaling"])
     assert len(res["memory"]["runs"]) == 2
     assert res["startup"]["warm_start_s"] > 0
+    assert res["cavity"]["particles"] > 0 and res["cavity"]["grid"][0] == res["cavity"]["grid"][1]

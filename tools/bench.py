@@ -1,8 +1,8 @@
 #!/usr/bin/env python3
-"""Throughput benchmark of the 1-D engine: phases, bandwidth floor, scaling, memory, warm start.
+"""Throughput benchmark: phases, bandwidth floor, scaling, memory, warm start; the 2-D cavity.
 
     python tools/bench.py [--particles 1e6] [--threads 1,2] [--steps N]
-                          [--scaling] [--memory] [--startup] [--all] [--json out.json]
+                          [--scaling] [--memory] [--startup] [--cavity] [--all] [--json out.json]
 
 The bench case is a planar Couette flow of argon (VHS) between diffuse walls
 sliding at -100 and +100 m/s, 40 particles per cell, cells of a third of a
@@ -33,6 +33,11 @@ with each other on a noisy machine:
 * with ``--memory``: peak memory of fresh subprocesses at two sizes
   (tracemalloc peak for numpy arrays, ``ru_maxrss`` for the whole process),
   and bytes per particle from the slope between the two;
+* with ``--cavity``: the same phase timings for a 2-D square lid-driven
+  argon cavity (:func:`cavity_text`: the bench case's cell size, particles
+  per cell and time step, diffuse walls, the lid sliding at the wall speed)
+  of about ``--particles`` particles, as particle-steps per second per core
+  for each thread count (the 2-D target is 12 M per core);
 * with ``--startup``: seconds from launching a fresh interpreter to the end
   of the first step of ``Simulation(parse_case(text))`` with the numba cache
   warm (a first launch warms it; median of the warm launches).
@@ -113,6 +118,7 @@ TARGETS = {
     "scaling_spread": 0.20,  # max/min time per particle-step - 1
     "bytes_per_particle": 120.0,
     "warm_start_s": 3.0,
+    "cavity_particle_steps_per_s_per_core": 12e6,
 }
 
 
@@ -156,8 +162,44 @@ batches = 2
 """
 
 
-def make_sim(particles: float):
-    sim = simmod.Simulation(parse_case(case_text(particles), "<bench>"))
+def cavity_text(particles: float, seed: int = 1) -> str:
+    """Case-file text of the 2-D bench: a square lid-driven argon cavity (diffuse walls, the
+    ymax lid sliding at WALL_SPEED) of about ``particles`` particles, with the cells, particles
+    per cell and time step of the 1-D bench case."""
+    ar = get_species("Ar")
+    n = PRESSURE / (kinetic.K_B * TEMPERATURE)
+    mfp = float(kinetic.mean_free_path(ar, TEMPERATURE, n, "vhs"))
+    side = max(2, int(round(math.sqrt(particles / PPC))))
+    length = side * DX_OVER_MFP * mfp
+    walls = ""
+    for name in ("xmin", "xmax", "ymin", "ymax"):
+        lid = f"velocity = [{WALL_SPEED!r}, 0.0, 0.0]\n" if name == "ymax" else ""
+        walls += f'[boundary.{name}]\nmodel = "diffuse"\ntemperature = {TEMPERATURE!r}\n{lid}'
+    return f"""\
+title = "bench: argon lid-driven cavity, {side} x {side} cells"
+[gas]
+species = "Ar"
+collision_model = "vhs"
+temperature = {TEMPERATURE!r}
+pressure = {PRESSURE!r}
+[domain]
+length = [{length!r}, {length!r}]
+cells = [{side}, {side}]
+{walls}[numerics]
+particles_per_cell = {PPC!r}
+collision_time_fraction = {COLLISIONS_PER_STEP!r}
+transit_fraction = 10.0   # let the collision time set the step
+[run]
+seed = {seed}
+transient_steps = 0
+sample_steps = 1000000
+sample_interval = 1
+batches = 2
+"""
+
+
+def make_sim(particles: float, text=case_text):
+    sim = simmod.Simulation(parse_case(text(particles), "<bench>"))
     sim.reset_samples(interval=1)
     return sim
 
@@ -349,14 +391,14 @@ def measure_many(sims: list, threads: list[int], steps: list[int], max_others: f
     """
     jobs = [(j, t) for j in range(len(sims)) for t in threads]
     moments = [np.zeros_like(sim._batch.moments) for sim in sims]
-    walls = np.zeros((2, simmod.N_WALL_ACC))
+    walls = [np.zeros((sim.n_sides, simmod.N_WALL_ACC)) for sim in sims]
     scratch = {k: [] for k in PHASES}
     est = {}
     for j, t in jobs:  # warm-up (compilation, caches, first touch of scratch arrays)
         nb.set_num_threads(t)
         sim = sims[j]
         for _ in range(2):
-            step_phases(sim, moments[j], walls, scratch)
+            step_phases(sim, moments[j], walls[j], scratch)
             sim.step(sample=True)
         t0 = time.perf_counter()
         sim.step(sample=True)
@@ -402,7 +444,7 @@ def measure_many(sims: list, threads: list[int], steps: list[int], max_others: f
             sim.step(sample=True)  # untimed: refills the caches after the other jobs' chunks
             n_sum[j] += sim.n_particles
             for _ in range(chunk[j, t]):
-                step_phases(sim, moments[j], walls, ph)
+                step_phases(sim, moments[j], walls[j], ph)
                 t0 = time.perf_counter()
                 sim.step(sample=True)
                 st.append(time.perf_counter() - t0)
@@ -641,6 +683,20 @@ def report(res: dict) -> str:
     if "two_thread_speedup" in s:
         lines.append(f"  2 threads / 1 thread        {s['two_thread_speedup']:8.3f}     >= 1.8"
                      f"{_ok(s['two_thread_speedup'], 1.8)}")
+    if "cavity" in res:
+        c = res["cavity"]
+        lines.append("")
+        lines.append(f"2-D lid-driven cavity: {c['particles']} particles, {c['grid'][0]} x {c['grid'][1]} "
+                     f"cells, collisions per particle per step = "
+                     f"{c['collisions_per_particle_per_step']:.3f}; {_load_line(c['load'])}")
+        for t in threads:
+            r = c["threads"][t]
+            ph = r["phase_seconds"]
+            lines.append(f"  {t} thr: {_fmt_rate(r['particle_steps_per_s'])} particle-steps/s, "
+                         f"{_fmt_rate(r['particle_steps_per_s'] / t)} per core; ns/p: "
+                         + " ".join(f"{k} {1e9 * ph[k] / c['particles']:.2f}" for k in PHASES))
+        worst = s["cavity_particle_steps_per_s_per_core"]
+        lines.append(f"  per core (worst thread count) {worst / 1e6:8.2f} M   >= 12 M{_ok(worst, 12e6)}")
     if "scaling" in res:
         lines.append("")
         lines.append("scaling (ns per particle-step, whole step):")
@@ -705,7 +761,9 @@ def main(argv=None) -> int:
     ap.add_argument("--startup", action="store_true", help="warm-start time (subprocesses)")
     ap.add_argument("--startup-particles", type=float, default=None, help="(default: --particles)")
     ap.add_argument("--startup-repeats", type=int, default=3, help="warm launches timed (median)")
-    ap.add_argument("--all", action="store_true", help="--scaling --memory --startup")
+    ap.add_argument("--cavity", action="store_true",
+                    help="also the 2-D lid-driven cavity at --particles (per-core rate)")
+    ap.add_argument("--all", action="store_true", help="--scaling --memory --startup --cavity")
     ap.add_argument("--triad-mb", type=float, default=None,
                     help="MiB per triad array (default: 4 x the largest cache, at least 256)")
     ap.add_argument("--max-others", type=float, default=MAX_OTHERS,
@@ -713,7 +771,7 @@ def main(argv=None) -> int:
     ap.add_argument("--json", default=None, help="write all figures to this file")
     args = ap.parse_args(argv)
     if args.all:
-        args.scaling = args.memory = args.startup = True
+        args.scaling = args.memory = args.startup = args.cavity = True
 
     nmax = nb.config.NUMBA_NUM_THREADS
     threads = sorted({int(t) for t in args.threads.split(",")}) if args.threads else sorted({1, nmax})
@@ -779,6 +837,17 @@ def main(argv=None) -> int:
         summary["two_thread_speedup" if tn == 2 else f"speedup_{tn}_threads"] = (
             res["main"]["threads"][tn]["particle_steps_per_s"] / rate1)
         summary["triad_thread_speedup"] = tri[tn] / tri[t1]
+    if args.cavity:
+        cav = make_sim(args.particles, cavity_text)
+        res["cavity"] = measure(cav, threads, args.steps or int(min(60, max(8, 3e7 / cav.n_particles))),
+                                args.max_others)
+        res["cavity"]["grid"] = [cav.grid.nx, cav.grid.ny]
+        del cav
+        for t in threads:
+            summary[f"cavity_particle_steps_per_s_per_core_{t}"] = (
+                res["cavity"]["threads"][t]["particle_steps_per_s"] / t)
+        summary["cavity_particle_steps_per_s_per_core"] = min(
+            summary[f"cavity_particle_steps_per_s_per_core_{t}"] for t in threads)
     if args.scaling:
         res["scaling"] = scaling(_sizes(args.scaling_sizes), threads, args.scaling_budget,
                                  max_others=args.max_others)
