@@ -1,8 +1,8 @@
-"""Checks of dsmc.analysis.free_molecular: surface fluxes and bodies.
+"""Checks of dsmc.analysis.free_molecular: surface fluxes, bodies, channels.
 
 Every reference names its source.  "derived" means derived in the docstring
 of the function under test and checked here by a different route (scipy
-quadrature); "from memory" marks a
+quadrature, a Monte Carlo count); "from memory" marks a
 textbook form recalled and not verified.  Gas data are argon-like and
 illustrative: m = 39.948 u; any positive values exercise the same code.
 """
@@ -151,6 +151,8 @@ def test_bad_arguments_raise():
     with pytest.raises(ValueError):
         fm.flat_plate(0.0, 0.1, 300.0, 300.0)
     with pytest.raises(ValueError):
+        fm.channel_transmission(fm.MAX_LENGTH_OVER_HEIGHT * 2)
+    with pytest.raises(ValueError):
         fm.scaled_bessel_i(0, -1.0)
 
 
@@ -280,3 +282,95 @@ def test_cylinder_surface_stagnation_and_shadow():
     # Symmetry: theta and -theta give the same distributions.
     a, b = fm.cylinder_surface(2.0, 300.0, 400.0, 0.7), fm.cylinder_surface(2.0, 300.0, 400.0, -0.7)
     assert (a.Cp, a.Cf, a.Ch) == (b.Cp, b.Cf, b.Ch)
+
+
+# --- plane channel: free-molecular transmission -----------------------------
+
+def test_strip_view_factor_is_the_cosine_law_integrated_over_z():
+    # Reference: 3-D view factor cos b1 cos b2/(pi R^2) per area (cosine law)
+    # integrated over z by quad; and the three strip view factors add to 1.
+    H, L = 1.0, 3.0
+    for d in (0.0, 0.4, 2.5):
+        r2 = d * d + H * H
+        ref = 2 * quad(lambda z: H * H / (math.pi * (r2 + z * z) ** 2), 0, np.inf,
+                       epsabs=0, epsrel=1e-13)[0]
+        assert ref == pytest.approx(H * H / (2 * r2**1.5), rel=1e-12)
+    for x in (0.0, 0.7, 2.9):
+        opposite = quad(lambda xp: H * H / (2 * ((x - xp) ** 2 + H * H) ** 1.5), 0, L,
+                        epsabs=0, epsrel=1e-13)[0]
+        f_in = 0.5 * (1 - x / math.hypot(x, H))
+        f_out = 0.5 * (1 - (L - x) / math.hypot(L - x, H))
+        assert f_in + f_out + opposite == pytest.approx(1.0, rel=1e-13)
+
+
+def test_channel_limits_conservation_and_symmetry():
+    assert fm.channel_transmission(0.0) == 1.0
+    # Short channels, derived: W = 1 - (L/H)/2 + O((L/H)^2).
+    for ell in (1e-3, 1e-2):
+        assert (1 - fm.channel_transmission(ell)) / ell == pytest.approx(0.5, abs=ell)
+    Ws = [fm.channel_transmission(ell) for ell in (0.1, 0.5, 1, 2, 5, 10, 20)]
+    assert all(a > b for a, b in zip(Ws, Ws[1:]))
+    for ell in (0.3, 1.0, 7.5, 40.0):
+        sol = fm.clausing_channel(ell)
+        # Conservation: every entering molecule leaves at one end.
+        assert sol.transmission + sol.backscatter == pytest.approx(1.0, abs=1e-13)
+        # Equilibrium by superposition: both reservoirs equal -> uniform wall flux.
+        np.testing.assert_allclose(sol.wall_flux + sol.wall_flux[::-1], 1.0, atol=1e-13)
+    # Long channels, derived: W ~ (H/L) ln(L/H); W L/H - ln(L/H) stays O(0.1).
+    for ell in (20.0, 50.0, 100.0):
+        excess = fm.channel_transmission(ell) * ell - math.log(ell)
+        assert 0.0 < excess < 0.2
+
+
+def _monte_carlo_transmission(ell, count, seed):
+    """Count molecules through a slit channel of length ell (units of H).
+
+    Independent of the integral equation: molecules enter at x = 0 with
+    uniform y and a 3-D cosine-law direction about +x, fly straight to a
+    plate (only the in-plane components matter) and are re-emitted there
+    with a cosine-law direction about the plate normal, until they leave.
+    """
+    rng = np.random.default_rng(seed)
+    y = rng.random(count)
+    x = np.zeros(count)
+    cos_t = np.sqrt(rng.random(count))
+    dx = cos_t
+    dy = np.sqrt(1 - cos_t**2) * np.cos(2 * np.pi * rng.random(count))
+    through = back = 0
+    while x.size:
+        wall = np.where(dy > 0, 1.0, 0.0)
+        xn = x + (wall - y) / dy * dx
+        out_f, out_b = xn >= ell, xn <= 0.0
+        through += int(out_f.sum())
+        back += int(out_b.sum())
+        keep = ~(out_f | out_b)
+        x, y = xn[keep], wall[keep]
+        cos_t = np.sqrt(rng.random(x.size))
+        dx = np.sqrt(1 - cos_t**2) * np.cos(2 * np.pi * rng.random(x.size))
+        dy = np.where(y == 1.0, -cos_t, cos_t)
+    assert through + back == count
+    return through / count
+
+
+@pytest.mark.parametrize("ell,seed", [(1.0, 11), (5.0, 12)])
+def test_channel_transmission_against_monte_carlo(ell, seed):
+    # Reference: the direct simulation above, 2e5 molecules, fixed seed;
+    # tolerance 4 binomial standard errors (about 0.4 %).
+    count = 200_000
+    W = fm.channel_transmission(ell)
+    se = math.sqrt(W * (1 - W) / count)
+    assert se < 1.2e-3
+    assert abs(_monte_carlo_transmission(ell, count, seed) - W) < 4 * se
+
+
+def test_free_molecular_channel_mass_flow():
+    # Reference: effusion flux n c_bar/4 per unit area from each reservoir
+    # (standard kinetic theory; c_bar from scipy.stats.maxwell), times m, the
+    # opening H and the transmission W.
+    T, H, L, p1, p2 = 300.0, 1e-3, 4e-3, 2.0, 0.5
+    c_bar = scipy.stats.maxwell(scale=math.sqrt(K_B * T / M_AR)).mean()
+    W = fm.channel_transmission(L / H)
+    ref = W * H * M_AR * c_bar / 4 * (p1 - p2) / (K_B * T)
+    got = fm.free_molecular_channel_mass_flow(p1, p2, T, M_AR, H, L)
+    assert got == pytest.approx(ref, rel=1e-12)
+    assert fm.free_molecular_channel_mass_flow(p1, p1, T, M_AR, H, L) == 0.0
