@@ -2,7 +2,7 @@
 
 Every reference names its source.  "derived" means derived in the docstring
 of the function under test and checked here by a different route (scipy
-quadrature, a Monte Carlo count); "from memory" marks a
+quadrature, an ODE solver, a Monte Carlo count); "from memory" marks a
 textbook form recalled and not verified.  Gas data are argon-like and
 illustrative: m = 39.948 u; any positive values exercise the same code.
 """
@@ -13,9 +13,10 @@ import numpy as np
 import pytest
 import scipy.special
 import scipy.stats
-from scipy.integrate import quad
+from scipy.integrate import quad, solve_ivp
 
 import dsmc.analysis.free_molecular as fm
+from dsmc.analysis import limits
 from dsmc.analysis.limits import K_B
 
 M_AR = 39.948 * 1.66053906892e-27
@@ -374,3 +375,70 @@ def test_free_molecular_channel_mass_flow():
     got = fm.free_molecular_channel_mass_flow(p1, p2, T, M_AR, H, L)
     assert got == pytest.approx(ref, rel=1e-12)
     assert fm.free_molecular_channel_mass_flow(p1, p1, T, M_AR, H, L) == 0.0
+
+
+# --- plane channel: slip flow -----------------------------------------------
+
+MU_AR = 2.2e-5   # Pa s, illustrative (argon near 300 K, from memory)
+
+
+def test_slip_mass_flow_against_ode_integration_of_the_local_law():
+    # Reference: solve_ivp of dp/dx = -mdot / [(m H^3/(12 mu k T))(p + 6 sigma
+    # mu v0/H)], the local slip-Poiseuille law with the volume flow
+    # Q = int_0^H u dy computed by quad from u = G y (H - y)/(2 mu) + u_s;
+    # the closed-form mdot must carry p_in at x = 0 to p_out at x = L.
+    T, H, L, p1, p2, sigma = 300.0, 2e-6, 2e-4, 3.0e5, 1.0e5, 1.1
+    v0 = math.sqrt(2 * K_B * T / M_AR)
+    mdot = fm.slip_channel_mass_flow(p1, p2, T, M_AR, H, L, MU_AR, sigma)
+
+    def local_mdot(p, G):
+        ell = MU_AR * v0 / p
+        u_s = sigma * ell * G * H / (2 * MU_AR)
+        Q = quad(lambda y: G * y * (H - y) / (2 * MU_AR) + u_s, 0, H, epsabs=0, epsrel=1e-13)[0]
+        return p * M_AR / (K_B * T) * Q
+
+    # the local law is linear in G: G = mdot / local_mdot(p, 1)
+    x = np.linspace(0, L, 5)
+    sol = solve_ivp(lambda _, p: [-mdot / local_mdot(p[0], 1.0)], (0, L), [p1],
+                    t_eval=x, rtol=1e-12, atol=1e-6)
+    assert sol.y[0, -1] == pytest.approx(p2, rel=1e-9)
+    np.testing.assert_allclose(fm.slip_channel_pressure(p1, p2, T, M_AR, H, L, MU_AR, x, sigma),
+                               sol.y[0], rtol=1e-9)
+
+
+def test_slip_mass_flow_forms_and_limits():
+    T, H, L, p2 = 300.0, 2e-6, 2e-4, 1.0e5
+    P = 2.5
+    p1 = P * p2
+    v0 = math.sqrt(2 * K_B * T / M_AR)
+    # No slip, derived: H^3 m (p1^2 - p2^2)/(24 mu k T L).
+    ns = H**3 * M_AR * (p1**2 - p2**2) / (24 * MU_AR * K_B * T * L)
+    got = fm.no_slip_channel_mass_flow(p1, p2, T, M_AR, H, L, MU_AR)
+    assert got == pytest.approx(ns, rel=1e-14)
+    # Arkilic, Schmidt & Breuer (1997), from memory:
+    # mdot = H^3 p_o^2/(24 mu R T L) [(P^2 - 1) + 12 (2 - a)/a Kn_o (P - 1)],
+    # Kn_o = lambda_o/H with Maxwell's lambda = (mu/p) sqrt(pi R T/2), R = k/m;
+    # here in kg/(m s) per unit depth with the matching sigma_P (limits).
+    for a in (1.0, 0.8):
+        R = K_B / M_AR
+        kn_o = MU_AR / p2 * math.sqrt(math.pi * R * T / 2) / H
+        ref = H**3 * p2**2 / (24 * MU_AR * R * T * L) * (
+            (P**2 - 1) + 12 * (2 - a) / a * kn_o * (P - 1))
+        got = fm.slip_channel_mass_flow(p1, p2, T, M_AR, H, L, MU_AR,
+                                        limits.maxwell_slip_coefficient(a))
+        assert got == pytest.approx(ref, rel=1e-13)
+    # Default slip coefficient: the diffuse hard-sphere sigma_P of limits.
+    assert fm.slip_channel_mass_flow(p1, p2, T, M_AR, H, L, MU_AR) == pytest.approx(
+        fm.slip_channel_mass_flow(p1, p2, T, M_AR, H, L, MU_AR, limits.slip_coefficient(1.0)),
+        rel=1e-15)
+    # Small pressure drop: incompressible plane Poiseuille with slip,
+    # rho H^3 dp/(12 mu L)(1 + 6 sigma ell/H) (plane Poiseuille flow, e.g.
+    # White, Viscous Fluid Flow, from memory; slip term derived).
+    pm, dp, sigma = 1.0e5, 1.0, 1.0
+    ell = MU_AR * v0 / pm
+    ref = pm * M_AR / (K_B * T) * H**3 * dp / (12 * MU_AR * L) * (1 + 6 * sigma * ell / H)
+    got = fm.slip_channel_mass_flow(pm + dp / 2, pm - dp / 2, T, M_AR, H, L, MU_AR, sigma)
+    assert got == pytest.approx(ref, rel=1e-12)
+    # Reversed pressures reverse the flow.
+    assert fm.slip_channel_mass_flow(p2, p1, T, M_AR, H, L, MU_AR) == pytest.approx(
+        -fm.slip_channel_mass_flow(p1, p2, T, M_AR, H, L, MU_AR), rel=1e-15)
