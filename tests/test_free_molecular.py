@@ -15,12 +15,22 @@ import scipy.special
 import scipy.stats
 from scipy.integrate import quad, solve_ivp
 
-import dsmc.analysis.free_molecular as fm
+from dsmc.analysis import free_molecular as fm
 from dsmc.analysis import limits
 from dsmc.analysis.limits import K_B
 
 M_AR = 39.948 * 1.66053906892e-27
 SQRT_PI = math.sqrt(math.pi)
+
+
+# The house rule (no numba, scipy or engine import) is checked for this
+# module by tests/test_limits.py::test_module_is_pure_numpy.
+
+
+def test_package_name_is_the_module_and_couette_solution_stays_in_limits():
+    import dsmc.analysis
+    assert dsmc.analysis.free_molecular is fm
+    assert callable(limits.free_molecular)
 
 
 # --- half-range moments and the surface element -----------------------------
