@@ -30,9 +30,10 @@ def rel(a, b):
     return abs(a - b) / abs(b)
 
 
-def test_module_is_pure_numpy():
+@pytest.mark.parametrize("module", ["dsmc.analysis.limits", "dsmc.analysis.free_molecular"])
+def test_module_is_pure_numpy(module):
     # Post-processing must import without numba, scipy or the engine.
-    code = ("import sys, dsmc.analysis.limits; "
+    code = (f"import sys, {module}; "
             "bad = [m for m in sys.modules if m.split('.')[0] in ('numba', 'scipy')"
             " or m.startswith(('dsmc.kernels', 'dsmc.simulation'))]; "
             "print(bad); sys.exit(1 if bad else 0)")
