@@ -77,16 +77,18 @@ class DomainSpec:
 
 @dataclass(frozen=True)
 class WallSpec:
-    """A side of the slab: a wall (``WALL_MODELS``) or an open boundary (``OPEN_BOUNDARIES``).
+    """A side of the slab or box: a wall (``WALL_MODELS``) or an open boundary
+    (``OPEN_BOUNDARIES``).
 
     For an open side ``temperature``, ``velocity`` and ``number_density`` are
-    the reservoir state (``velocity`` may then have an x component);
-    ``drift`` is ``"local"`` or ``"none"`` for a pressure boundary.
+    the reservoir state (``velocity`` may then have any direction, including
+    a component along the side's normal); ``drift`` is ``"local"`` or
+    ``"none"`` for a pressure boundary.
     """
 
     model: str
     temperature: float  # K
-    velocity: tuple[float, float, float]  # m/s, tangential (x component zero) for walls
+    velocity: tuple[float, float, float]  # m/s, tangential (no normal component) for walls
     accommodation: float = 1.0
     normal_accommodation: float = 1.0
     tangential_accommodation: float = 1.0
@@ -429,13 +431,10 @@ def _key_owners(name: str) -> list[str]:
             + [m for m, b in OPEN_BOUNDARIES.items() if name in b.state_keys])
 
 
-def _read_wall(t: _Table, gas: GasSpec, axis: int = 0, planar: bool = False) -> WallSpec:
-    """A wall normal to ``axis`` (0: x, 1: y); ``planar``: a side of a 2-D box."""
+def _read_wall(t: _Table, gas: GasSpec, axis: int = 0) -> WallSpec:
+    """A side normal to ``axis`` (0: x, 1: y): a wall or an open side."""
     model = t.choice("model", BOUNDARY_KINDS, required=True)
     if model in OPEN_BOUNDARIES:
-        if planar:
-            t.fail(f"open sides ('{model}') are not available in 2-D yet; use a wall or "
-                   "'periodic'", "model")
         return _read_open(t, gas, model)
     spec = WALL_MODELS[model]
     allowed = {"model", "temperature", "velocity", *spec.keys}
@@ -516,10 +515,9 @@ def _shock_walls(top: _Table, gas: GasSpec, shock: ShockSpec) -> tuple[WallSpec,
 
 def _read_walls(top: _Table, gas: GasSpec, domain: DomainSpec) -> tuple[WallSpec, ...]:
     t = top.table("boundary", required=True)
-    planar = domain.dim == 2
     walls = []
     for k, side in enumerate(domain.sides):
-        walls.append(_read_wall(t.table(side, required=True), gas, k // 2, planar))
+        walls.append(_read_wall(t.table(side, required=True), gas, k // 2))
     t.finish()
     for lo, hi in zip(domain.sides[0::2], domain.sides[1::2]):
         a, b = walls[domain.sides.index(lo)], walls[domain.sides.index(hi)]
@@ -528,7 +526,7 @@ def _read_walls(top: _Table, gas: GasSpec, domain: DomainSpec) -> tuple[WallSpec
     return tuple(walls)
 
 
-def _check_open_sides_gas(top: _Table, gas: GasSpec, walls, shock):
+def _check_open_sides_gas(top: _Table, gas: GasSpec, walls, shock, sides):
     """Open sides inject molecules of one monatomic species only (the injection kernel
     draws no internal energy and no species mix yet)."""
     rot_dof, theta_vib = gas.relaxation_tables()[:2]
@@ -538,7 +536,7 @@ def _check_open_sides_gas(top: _Table, gas: GasSpec, walls, shock):
             else f"'{gas.all_species[0].name}', whose internal energy is exchanged")
     if shock is not None:
         top.fail(f"the shock case needs a single monatomic gas, not {what}", "shock")
-    for side, w in zip(SIDES_1D, walls):
+    for side, w in zip(sides, walls):
         if w.is_open:
             top.fail(f"open sides inject a single monatomic gas only, not {what}",
                      f"boundary.{side}.model")
@@ -631,7 +629,7 @@ def parse_case(text: str, path: str = "<case>") -> Case:
         top.fail("the shock case is 1-D: give domain.length and domain.cells as single values",
                  "shock")
     walls = _read_walls(top, gas, domain) if shock is None else _shock_walls(top, gas, shock)
-    _check_open_sides_gas(top, gas, walls, shock)
+    _check_open_sides_gas(top, gas, walls, shock, domain.sides)
     initial = _read_initial(top.table("initial"))
     if domain.dim == 2 and initial.profile != "uniform":
         top.fail("a 2-D domain starts from the uniform [gas] state only", "initial.profile")

@@ -4,8 +4,11 @@ Both grids offer the interface the simulation uses: ``cells`` (total number
 of cells), ``volumes``, ``volume`` (of the domain), ``centers`` (``(cells,)``
 in 1-D, ``(cells, 2)`` in 2-D, in flat cell order), ``dim``, ``sides`` (side
 names in wall-row order), ``normals`` (unit normal into the gas of each side,
-as ``(nx, ny)``), ``side_areas`` (m^2 of each side), ``extent`` (domain size
-per axis) and ``cell_size`` (smallest cell edge).
+as ``(nx, ny)``), ``side_areas`` (m^2 of each side), ``face_cells`` (per
+side, the cells along it in order along the side: each side is cut into the
+faces of these cells; one face per side in 1-D), ``face_areas`` (m^2 of one
+face of each side), ``extent`` (domain size per axis) and ``cell_size``
+(smallest cell edge).
 """
 
 from __future__ import annotations
@@ -68,6 +71,14 @@ class Grid1D:
     @property
     def side_areas(self) -> tuple[float, ...]:
         return (UNIT_AREA, UNIT_AREA)
+
+    @property
+    def face_cells(self) -> tuple[np.ndarray, ...]:
+        return (np.array([0]), np.array([self.cells - 1]))
+
+    @property
+    def face_areas(self) -> tuple[float, ...]:
+        return self.side_areas
 
     @property
     def cell_size(self) -> float:
@@ -148,6 +159,18 @@ class Grid2D:
     def side_areas(self) -> tuple[float, ...]:
         return (self.ly * UNIT_DEPTH, self.ly * UNIT_DEPTH, self.lx * UNIT_DEPTH,
                 self.lx * UNIT_DEPTH)
+
+    @property
+    def face_cells(self) -> tuple[np.ndarray, ...]:
+        """Cells along xmin, xmax (by increasing y), ymin, ymax (by increasing x)."""
+        ix = np.arange(self.nx)
+        iy = np.arange(self.ny)
+        return (self.nx * iy, self.nx - 1 + self.nx * iy, ix, ix + self.nx * (self.ny - 1))
+
+    @property
+    def face_areas(self) -> tuple[float, ...]:
+        return (self.dy * UNIT_DEPTH, self.dy * UNIT_DEPTH, self.dx * UNIT_DEPTH,
+                self.dx * UNIT_DEPTH)
 
     @property
     def cell_size(self) -> float:

@@ -57,7 +57,7 @@ class Particles:
         old = [a[:n].copy() for a in self._live()]
         self._alloc(max(cap, int(1.5 * self.capacity)))
         for a, b in zip(self._live(), old):
-            a[: b.size] = b
+            a[: b.shape[0]] = b
 
     def _live(self):
         return self.pos, self.v, self.sp, self.erot, self.vib

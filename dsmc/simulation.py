@@ -47,8 +47,9 @@ from dsmc.gas import kinetic
 from dsmc.grid import UNIT_AREA, UNIT_DEPTH, Grid1D, Grid2D
 from dsmc.gas.shock import shock_states
 from dsmc.kernels.collide import N_COLL_STATS, collide_ntc
-from dsmc.kernels.inject import N_INJECT_ACC, fill_slab_1d, inject_1d, number_flux
-from dsmc.kernels.move import N_WALL_ACC, move_1d, move_2d, n_blocks
+from dsmc.kernels.inject import (N_INJECT_ACC, fill_slab_1d, inject_1d, number_flux,
+                                  relax_face_drift)
+from dsmc.kernels.move import N_WALL_ACC, inject_2d, move_1d, move_2d, n_blocks
 from dsmc.kernels.rng import fill_cells_1d, fill_cells_2d, fill_uniform, new_streams
 from dsmc.kernels.sample import N_MOMENTS, sample_cells
 from dsmc.kernels.sort import SORT_CHUNKS, keys_1d, keys_2d
@@ -65,7 +66,7 @@ class _Batch:
     moments: np.ndarray  # (cells, species, 13)
     walls: np.ndarray  # (sides, 5): 2 sides in 1-D, 4 in 2-D
     collisions: np.ndarray  # (cells, 2)
-    inflow: np.ndarray  # (2, 5): count, momentum, energy of the molecules injected per side
+    inflow: np.ndarray  # (sides, 5): count, momentum, energy of the molecules injected per side
     samples: int = 0
     steps: int = 0
 
@@ -120,14 +121,24 @@ class Simulation:
         self.init_state = new_streams(init_seq, 1)
         self.move_state = new_streams(move_seq, n_blocks(int(1.2 * n_target) + 1, BLOCK_SIZE))
         self.coll_state = new_streams(coll_seq, self.grid.cells)
-        # one stream per side for injection and re-centring fills (serial, so thread-independent)
+        # one stream per side for injection and re-centring fills (serial, so thread-independent;
+        # the first two are the same whatever the number of sides)
         key = () if replica is None else (replica,)
-        self.inject_state = new_streams(np.random.SeedSequence(self.seed, spawn_key=key + (4,)), 2)
-        self.inject_remainder = np.zeros(2)
-        self._inject_acc = np.zeros((2, 2, N_INJECT_ACC))
-        self.lost_particles = 0  # injected molecules whose partial flight left the domain
-        # reservoir drift of 'pressure' sides with drift = "local": relaxed cell mean velocity
-        self.local_drift = np.zeros((2, 3))
+        self.inject_state = new_streams(np.random.SeedSequence(self.seed, spawn_key=key + (4,)),
+                                        self.n_sides)
+        # each side is cut into the faces of the cells along it (one face per side in 1-D);
+        # the faces of all sides are numbered in side order, those of side w from _face_start[w]
+        self.face_cells = self.grid.face_cells
+        self._face_start = np.concatenate([[0], np.cumsum([c.size for c in self.face_cells])])
+        n_faces = int(self._face_start[-1])
+        self.inject_remainder = np.zeros(n_faces)  # fraction of a molecule carried per face
+        # per side: entered (row 0) and, in 1-D, lost past the far side (row 1)
+        self._inject_acc = np.zeros((self.n_sides, 2, N_INJECT_ACC))
+        # 2-D: wall accumulators of the injected molecules' first flights, [side, wall]
+        self._inject_wall_acc = np.zeros((self.n_sides, self.n_sides, N_WALL_ACC))
+        self.lost_particles = 0  # 1-D: injected molecules whose partial flight left the slab
+        # reservoir drift of 'pressure' sides with drift = "local", per face: relaxed cell mean
+        self.local_drift = np.zeros((n_faces, 3))
         self._shock_sum = 0.0  # particle count summed over the current re-centring window
         self._shock_steps = 0
         self.shock_shift = 0.0  # total re-centring shift, m
@@ -220,7 +231,9 @@ class Simulation:
         from ``[numerics]``; keeping the step a fraction of the mean collision
         time and of the cell transit time is common practice.  A reservoir of
         an open side also enters: ``tau_c`` is the smallest of the gas and
-        reservoir collision times and the speed the largest ``c_mp + |u_x|``.
+        reservoir collision times and the speed the largest ``c_mp + |u|``,
+        ``u`` the reservoir drift in the plane of motion (``u_x`` in 1-D,
+        ``(u_x, u_y)`` in 2-D).
         """
         ref = self.reference_state()
         num = self.case.numerics
@@ -230,8 +243,10 @@ class Simulation:
                 sp = self.case.gas.species
                 tau = min(tau, float(kinetic.mean_collision_time(sp, w.temperature,
                                                                  w.number_density, self.model)))
+                u = w.velocity
+                drift = abs(u[0]) if self.grid.dim == 1 else math.hypot(u[0], u[1])
                 speed = max(speed, float(kinetic.most_probable_speed(w.temperature, sp.mass))
-                            + abs(w.velocity[0]))
+                            + drift)
         return min(num.collision_time_fraction * tau,
                    num.transit_fraction * self.grid.cell_size / speed)
 
@@ -438,54 +453,75 @@ class Simulation:
 
     # ------------------------------------------------------------ open sides
 
+    def side_faces(self, side: int) -> slice:
+        """The faces of ``side`` in the per-face arrays (``inject_remainder``, ``local_drift``)."""
+        return slice(int(self._face_start[side]), int(self._face_start[side + 1]))
+
     def _reservoir(self, side: int) -> tuple[float, float, np.ndarray]:
-        """``(n, T, u)`` of the reservoir behind an injecting side."""
+        """``(n, T, u)`` of the reservoir behind an injecting side; ``u`` has one drift (3,)
+        per face of the side."""
         w = self.case.walls[side]
-        u = np.array(w.velocity, dtype=float)
         if w.model == "pressure" and w.drift == "local":
-            u = self.local_drift[side].copy()
+            u = self.local_drift[self.side_faces(side)].copy()
+        else:
+            u = np.tile(np.array(w.velocity, dtype=float), (self.face_cells[side].size, 1))
         return w.number_density, w.temperature, u
 
     def _update_local_drift(self):
-        """Relax the 'pressure' sides' reservoir drift toward the adjacent cell's mean velocity.
+        """Relax the 'pressure' sides' reservoir drift, face by face, toward the mean velocity
+        of the face's adjacent cell.
 
         The cell mean of one step is noisy; the relaxation factor 1/RELAX_STEPS
         averages it over about RELAX_STEPS steps (our choice).
         """
-        nc = self.grid.cells
-        for side, cell in ((0, 0), (1, nc - 1)):
-            w = self.case.walls[side]
+        for side, w in enumerate(self.case.walls):
             if w.model != "pressure" or w.drift != "local":
                 continue
-            a, b = self.cell_start[cell], self.cell_start[cell + 1]
-            if b > a:
-                mean = self.particles.v[a:b].mean(axis=0)
-                self.local_drift[side] += (mean - self.local_drift[side]) / RELAX_STEPS
+            relax_face_drift(self.particles.v, self.cell_start, self.face_cells[side],
+                             self.local_drift[self.side_faces(side)], RELAX_STEPS)
 
     def _inject(self):
         """Append the molecules entering through the open sides this step (Bird 1994 eq. 4.22 flux,
-        :mod:`dsmc.kernels.inject`); the expected number's fraction is carried to the next step.
-        Returns how many were appended."""
+        :mod:`dsmc.kernels.inject`).  Each side is cut into the faces of the cells along it
+        (one face in 1-D); a face expects ``flux * face area * dt / weight`` molecules, the
+        fraction carried to its next step, and a face whose cell has no volume injects
+        nothing.  Returns how many were appended."""
         p = self.particles
+        g = self.grid
+        m = self.mass[0]
         self._inject_acc[:] = 0.0
+        if g.dim == 2:
+            self._inject_wall_acc[:] = 0.0
         total = 0
         for side, w in enumerate(self.case.walls):
             if not w.injects:
                 continue
+            faces = self.side_faces(side)
             n_res, T_res, u = self._reservoir(side)
-            direction = 1.0 if side == 0 else -1.0
-            flux = number_flux(n_res, T_res, self.mass[0], direction * u[0])
-            expected = flux * UNIT_AREA * self.dt / self.weight + self.inject_remainder[side]
-            count = int(expected)
-            self.inject_remainder[side] = expected - count
-            if count == 0:
+            axis, direction = side // 2, (1.0 if side % 2 == 0 else -1.0)
+            if w.model == "pressure" and w.drift == "local":
+                flux = np.array([number_flux(n_res, T_res, m, direction * uf[axis]) for uf in u])
+            else:  # one reservoir state for the whole side
+                flux = number_flux(n_res, T_res, m, direction * u[0, axis])
+            expected = flux * g.face_areas[side] * self.dt / self.weight + self.inject_remainder[faces]
+            expected[self.volume[self.face_cells[side]] <= 0.0] = 0.0
+            count = expected.astype(np.int64)
+            self.inject_remainder[faces] = expected - count
+            n_new = int(count.sum())
+            if n_new == 0:
                 continue
-            self._reserve(p.n + count)
-            x0 = 0.0 if side == 0 else self.grid.length
-            inject_1d(p.pos, p.v, p.sp, p.n, count, x0, direction, self.grid.length, self.dt, u,
-                      T_res, self.mass[0], 0, self.inject_state, side, self._inject_acc[side])
-            p.n += count
-            total += count
+            self._reserve(p.n + n_new)
+            if g.dim == 1:
+                x0 = 0.0 if side == 0 else g.length
+                inject_1d(p.pos, p.v, p.sp, p.n, n_new, x0, direction, g.length, self.dt, u[0],
+                          T_res, m, 0, self.inject_state, side, self._inject_acc[side])
+            else:
+                inject_2d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, count, side,
+                          (g.dy, g.dx)[axis], u, T_res, m, 0, g.lx, g.ly, self.walls, self.dt,
+                          int(self.rot_dof[0]), float(self.theta_vib[0]), self.inject_state,
+                          self._inject_acc[side, 0], self._inject_wall_acc)
+            p.n += n_new
+            total += n_new
         self.lost_particles += int(self._inject_acc[:, 1, 0].sum())
         return total
 
@@ -567,7 +603,7 @@ class Simulation:
         self.step_count += 1
         if sample:
             b = self._batch
-            b.walls += self._wall_acc[: self._acc_blocks].sum(axis=0)
+            b.walls += self._step_walls()
             if self.open_sides:
                 b.inflow += self._inject_acc[:, 0, :]
             b.steps += 1
@@ -592,7 +628,7 @@ class Simulation:
     def _new_batch(self) -> _Batch:
         nc, ns = self.grid.cells, len(self.species)
         return _Batch(np.zeros((nc, ns, N_MOMENTS)), np.zeros((self.n_sides, N_WALL_ACC)),
-                      np.zeros((nc, N_COLL_STATS)), np.zeros((2, N_INJECT_ACC)))
+                      np.zeros((nc, N_COLL_STATS)), np.zeros((self.n_sides, N_INJECT_ACC)))
 
     def reset_samples(self, interval: int | None = None):
         """Discard samples; later sampled steps sample every ``interval`` steps."""
@@ -611,10 +647,18 @@ class Simulation:
 
     # ---------------------------------------------------------------- schedule
 
+    def _step_walls(self) -> np.ndarray:
+        """What each side received in the last step, ``(sides, N_WALL_ACC)``: the move
+        kernel's blocks, and in 2-D the first flights of the injected molecules."""
+        w = self._wall_acc[: self._acc_blocks].sum(axis=0)
+        if self.open_sides and self.grid.dim == 2:
+            w += self._inject_wall_acc.sum(axis=0)
+        return w
+
     def _monitor_values(self) -> np.ndarray:
         """Per-step quantities watched for the steady state: wall hits, momentum
         (x, y) and energy per wall, and the gas kinetic energy."""
-        w = self._wall_acc[: self._acc_blocks].sum(axis=0)
+        w = self._step_walls()
         ke = float(np.einsum("ij,ij->", self.velocities, self.velocities))
         return np.concatenate([w[:, [0, 1, 2, 4]].ravel(), [ke]])
 
@@ -812,9 +856,9 @@ class Simulation:
         return out
 
     def open_side_fluxes(self) -> list[dict[str, tuple[np.ndarray, np.ndarray]] | None]:
-        """Per side (xmin, xmax), for open sides: ``{outflow_NAME | inflow_NAME: (mean, stderr)}``
-        with NAME in ``number_flux``, ``momentum_flux``, ``energy_flux`` (:func:`stats.flux_fields`);
-        ``None`` for a wall."""
+        """Per side (``grid.sides``), for open sides: ``{outflow_NAME | inflow_NAME: (mean,
+        stderr)}`` with NAME in ``number_flux``, ``momentum_flux``, ``energy_flux``
+        (:func:`stats.flux_fields`, per area of the side); ``None`` for a wall."""
         batches = self._closed_batches()
         out = []
         for w, spec in enumerate(self.case.walls):
@@ -823,11 +867,12 @@ class Simulation:
                 continue
             d = {}
             for kind, get in (("outflow", lambda b: b.walls[w]), ("inflow", lambda b: b.inflow[w])):
-                per = [stats.flux_fields(get(b), b.steps * self.dt, self.weight, UNIT_AREA)
+                area = self.grid.side_areas[w]
+                per = [stats.flux_fields(get(b), b.steps * self.dt, self.weight, area)
                        for b in batches]
                 total = stats.flux_fields(sum(get(b) for b in batches),
                                           sum(b.steps for b in batches) * self.dt, self.weight,
-                                          UNIT_AREA)
+                                          area)
                 for k in total:
                     d[f"{kind}_{k}"] = (total[k], stats.batch_error(np.stack([f[k] for f in per])))
             out.append(d)
@@ -874,7 +919,8 @@ class Simulation:
 
     def reference_length(self) -> float:
         """Length of the Knudsen number: the slab width in 1-D; in 2-D the smallest extent
-        between walls (a periodic axis is unbounded), or the smallest extent if both are."""
+        between sides that are not periodic (walls or open sides; a periodic axis is
+        unbounded), or the smallest extent if both axes are periodic."""
         g = self.grid
         if g.dim == 1:
             return g.length
@@ -1068,8 +1114,12 @@ def result_tree(sim: Simulation) -> dict:
         g["velocity"] = Data(np.asarray(spec.velocity), "m/s")
         g["number_density"] = Data(spec.number_density, "1/m^3")
         g["normal"] = Data(np.array([normal[0], normal[1], 0.0]), "1")
-        if spec.model == "pressure":
-            g["final_drift"] = Data(sim.local_drift[0 if side == "xmin" else 1].copy(), "m/s")
+        w = sim.grid.sides.index(side)
+        if sim.grid.dim == 2:
+            g["area"] = Data(sim.grid.side_areas[w], "m^2")
+        if spec.model == "pressure":  # per face in 2-D, along the side; one drift in 1-D
+            drift = sim.local_drift[sim.side_faces(w)].copy()
+            g["final_drift"] = Data(drift if sim.grid.dim == 2 else drift[0], "m/s")
         tree["walls"][side] = g
     tree["run"]["lost_particles"] = Data(sim.lost_particles, "1")
     if sim.shock is not None:

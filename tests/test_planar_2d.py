@@ -577,8 +577,9 @@ def test_docs_2d_reading_example_runs_on_a_real_file(tmp_path, capsys):
 
 
 @pytest.mark.parametrize("change, where", [
-    (('[boundary.ymax]\nmodel = "specular"', '[boundary.ymax]\nmodel = "outflow"'),
-     "boundary.ymax.model"),
+    (('[boundary.ymax]\nmodel = "specular"',
+      '[boundary.ymax]\nmodel = "outflow"\ntemperature = 300.0'),
+     "boundary.ymax.temperature"),
     (('[boundary.ymin]\nmodel = "specular"', '[boundary.ymin]\nmodel = "periodic"'),
      "boundary"),
     (('[boundary.ymin]\nmodel = "specular"',

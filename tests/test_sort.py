@@ -54,3 +54,24 @@ def test_move_kernel_keys_and_histogram_match_the_sort():
     histogram(p.key, p.n, sim.grid.cells, BLOCK_SIZE, sim._hist)
     n_chunks, _ = chunk_layout(p.n, BLOCK_SIZE)
     assert np.array_equal(hist[:n_chunks], sim._hist[:n_chunks])
+
+
+@pytest.mark.parametrize("dim, internal", [(1, False), (2, False), (2, True)])
+def test_growing_the_store_keeps_the_live_particles(dim, internal):
+    """Particles.reserve with live particles (open sides grow the population): every live
+    array keeps its rows, whatever its number of columns."""
+    from dsmc.particles import Particles
+
+    rng = np.random.default_rng(5)
+    p = Particles(100, dim=dim, internal=internal)
+    p.n = 80
+    live = [rng.random((80, dim)), rng.normal(size=(80, 3)),
+            rng.integers(0, 3, 80).astype(np.uint8)]
+    p.pos[:80], p.v[:80], p.sp[:80] = live
+    if internal:
+        p.erot[:80] = rng.random(80)
+        live.append(p.erot[:80].copy())
+    p.reserve(1000)
+    assert p.capacity >= 1000 and p.n == 80
+    for a, b in zip((p.pos, p.v, p.sp, p.erot), live):
+        assert np.array_equal(a[:80], b)

@@ -45,15 +45,25 @@ scheme; the one below is derived here.)
   and accept with probability ``(s + y)/(s + |y|)``.  Acceptance is
   ``M_1/(sqrt(pi) s + 1)``: 1/2 at ``s = 0``, tending to 1 for large ``s``.
 
-Tangential components are normal with mean ``u_t`` and variance ``kT/m``.
+Tangential components are normal with mean ``u_t`` and variance ``kT/m``
+(:func:`entering_velocity`, the one sampler of 1-D and 2-D sides).
 An injected molecule enters at a uniformly distributed time within the step,
 so it flies ``U dt`` (``U`` uniform on (0, 1]) from the plane: the molecules
 entering during a step are then spread as they would be in the real flow
 (a molecule placed on the plane itself would leave a density deficit of
-half a step's flight next to it).  A molecule whose flight would take it
-past the far side of the domain (only possible when ``v_n dt`` exceeds the
-domain length) is marked removed (``pos = -1``) and counted in row 1 of
-``acc``.
+half a step's flight next to it).
+
+* 1-D (:func:`inject_1d`): the flight is a straight line from the plane; a
+  molecule whose flight would take it past the far side of the slab (only
+  possible when ``v_n dt`` exceeds the slab length) is marked removed
+  (``pos = -1``) and counted in row 1 of ``acc``.
+* 2-D (:func:`dsmc.kernels.move.inject_2d`): the molecule starts at a
+  uniformly distributed point of a cell face of the side and flies ``U dt``
+  through the move kernel's flight routine, so walls, open sides and
+  whatever else that routine honours act on it as on any other molecule.  It
+  lives in ``dsmc/kernels/move.py``, beside that routine: numba's cache
+  recompiles a function when its own file changes, not when a function it
+  calls from another file does.
 """
 
 from __future__ import annotations
@@ -135,6 +145,33 @@ def flux_normal_ratio(s, state, k):
             return s + y
 
 
+@nb.njit(inline="always")
+def add_injected(acc_row, mass, vx, vy, vz):
+    """Count one molecule of velocity ``v`` in ``acc_row``: number, momentum, kinetic energy."""
+    acc_row[0] += 1.0
+    acc_row[1] += mass * vx
+    acc_row[2] += mass * vy
+    acc_row[3] += mass * vz
+    acc_row[4] += 0.5 * mass * (vx * vx + vy * vy + vz * vz)
+
+
+@nb.njit(inline="always")
+def entering_velocity(axis, direction, s, c_mp, sig, u, state, k):
+    """Velocity ``(v_x, v_y, v_z)`` of one molecule entering through a plane normal to ``axis``
+    (0: x, 1: y) with the inward normal ``direction`` (+1 or -1) along it, from the reservoir
+    of drift ``u`` (3,), most probable speed ``c_mp`` and ``sig = sqrt(kT/m)``; ``s`` is the
+    inward speed ratio ``direction * u[axis] / c_mp``.  The normal speed is drawn by
+    :func:`flux_normal_ratio`, then the in-plane tangential component, then z (stream ``k``).
+    """
+    cn = c_mp * flux_normal_ratio(s, state, k)
+    vn = direction * cn
+    t1 = sig * normal(state, k)
+    t2 = sig * normal(state, k)
+    if axis == 0:
+        return vn, u[1] + t1, u[2] + t2
+    return u[0] + t1, vn, u[2] + t2
+
+
 @nb.njit(cache=True)
 def inject_1d(pos, v, sp, start, count, x0, direction, length, dt, u, temperature, mass,
               species, state, k, acc):
@@ -152,10 +189,7 @@ def inject_1d(pos, v, sp, start, count, x0, direction, length, dt, u, temperatur
     sig = c_mp * 0.7071067811865476
     s = direction * u[0] / c_mp
     for i in range(start, start + count):
-        cn = c_mp * flux_normal_ratio(s, state, k)
-        vx = direction * cn
-        vy = u[1] + sig * normal(state, k)
-        vz = u[2] + sig * normal(state, k)
+        vx, vy, vz = entering_velocity(0, direction, s, c_mp, sig, u, state, k)
         x = x0 + vx * dt * uniform_open0(state, k)
         v[i, 0] = vx
         v[i, 1] = vy
@@ -166,11 +200,24 @@ def inject_1d(pos, v, sp, start, count, x0, direction, length, dt, u, temperatur
             row = 1
             x = -1.0
         pos[i, 0] = x
-        acc[row, 0] += 1.0
-        acc[row, 1] += mass * vx
-        acc[row, 2] += mass * vy
-        acc[row, 3] += mass * vz
-        acc[row, 4] += 0.5 * mass * (vx * vx + vy * vy + vz * vz)
+        add_injected(acc[row], mass, vx, vy, vz)
+
+
+@nb.njit(cache=True)
+def relax_face_drift(v, cell_start, cells, drift, relax_steps):
+    """Relax the reservoir drift ``drift[f]`` (3,) of each face ``f`` of a side toward the mean
+    velocity of the particles in its adjacent cell ``cells[f]`` (cell-sorted particles,
+    ``cell_start``), by ``1 / relax_steps`` of the difference; an empty cell leaves it."""
+    for f in range(cells.size):
+        a = cell_start[cells[f]]
+        b = cell_start[cells[f] + 1]
+        if b <= a:
+            continue
+        for c in range(3):
+            total = v[a, c]
+            for i in range(a + 1, b):
+                total += v[i, c]
+            drift[f, c] += (total / (b - a) - drift[f, c]) / relax_steps
 
 
 @nb.njit(cache=True)

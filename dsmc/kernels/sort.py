@@ -61,10 +61,14 @@ def keys_1d(pos, n, length, n_cells, key):
 @nb.njit(parallel=True, cache=True)
 def keys_2d(pos, n, lx, ly, nx, ny, key):
     """Cell index ``ix + nx * iy`` of each particle of a uniform ``nx`` x ``ny`` grid on
-    ``[0, lx] x [0, ly]`` (a coordinate on the far side belongs to the last cell)."""
+    ``[0, lx] x [0, ly]`` (a coordinate on the far side belongs to the last cell); a removed
+    particle (``pos[i, 0] < 0``) gets the extra key ``nx * ny``, as in :func:`keys_1d`."""
     sx = nx / lx
     sy = ny / ly
     for i in nb.prange(n):
+        if pos[i, 0] < 0.0:
+            key[i] = nx * ny
+            continue
         ix = int(pos[i, 0] * sx)
         if ix >= nx:
             ix = nx - 1
