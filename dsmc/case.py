@@ -19,6 +19,7 @@ from dsmc.errors import CaseError, UnknownNameError, nearest
 from dsmc.gas.kinetic import K_B, relaxation_tables
 from dsmc.gas.species import Species, get_species
 from dsmc.gas.shock import shock_states
+from dsmc import geometry
 from dsmc.grid import SIDES_1D, SIDES_2D
 from dsmc.models import BOUNDARY_KINDS, COLLISION_MODELS, OPEN_BOUNDARIES, WALL_MODELS
 
@@ -105,6 +106,17 @@ class WallSpec:
 
 
 @dataclass(frozen=True)
+class BodySpec:
+    """A body embedded in a 2-D domain (``[[body]]``): its shape, its wall and its panels."""
+
+    name: str
+    shape: geometry.Polygon | geometry.Circle
+    wall: WallSpec  # a wall model at rest (no velocity)
+    panels: int  # sampling panels (a polygon shares them out over its edges)
+    reference_length: float  # m, of the force and heat coefficients (per unit depth)
+
+
+@dataclass(frozen=True)
 class ShockSpec:
     """A normal shock between Rankine-Hugoniot states (``[shock]``)."""
 
@@ -154,6 +166,7 @@ class Case:
     numerics: NumericsSpec = field(default_factory=NumericsSpec)
     run: RunSpec = field(default_factory=RunSpec)
     shock: ShockSpec | None = None
+    bodies: tuple[BodySpec, ...] = ()
 
     def with_run(self, **changes) -> "Case":
         """A copy with some ``[run]`` values replaced (e.g. a seed from the CLI)."""
@@ -299,7 +312,7 @@ def _short(value) -> str:
 # ----------------------------------------------------------------------------
 # sections
 
-_TOP_KEYS = ("title", "gas", "domain", "boundary", "shock", "initial", "numerics", "run")
+_TOP_KEYS = ("title", "gas", "domain", "boundary", "body", "shock", "initial", "numerics", "run")
 
 
 MAX_SPECIES = 255  # species indices are uint8
@@ -485,6 +498,94 @@ def _read_open(t: _Table, gas: GasSpec, model: str) -> WallSpec:
     return WallSpec(model, temperature, velocity, number_density=n, drift=drift)
 
 
+BODY_SHAPES = ("circle", "polygon")
+MAX_VERTICES = 10_000
+DEFAULT_PANELS = {"circle": 36, "polygon": 40}
+
+
+def _point(t: _Table, raw, name: str, what: str) -> tuple[float, float]:
+    if (not isinstance(raw, list) or len(raw) != 2
+            or any(isinstance(c, bool) or not isinstance(c, (int, float)) for c in raw)
+            or not all(math.isfinite(c) for c in raw)):
+        t.fail(f"expected {what} as a list of two finite numbers [x, y] (in m), got {_short(raw)}",
+               name)
+    return float(raw[0]), float(raw[1])
+
+
+def _read_body(t: _Table, gas: GasSpec, index: int) -> BodySpec:
+    """One ``[[body]]`` table: shape, wall model (any wall but 'periodic', at rest), panels."""
+    name = t.text("name", f"body{index + 1}")
+    if not name or not name.replace("_", "").replace("-", "").isalnum():
+        t.fail(f"expected letters, digits, '-' or '_', got {name!r}", "name")
+    kind = t.choice("shape", BODY_SHAPES, required=True)
+    if kind == "circle":
+        center = _point(t, t._raw("center", True), "center", "the centre")
+        radius = t.number("radius", required=True, positive=True, maximum=1e3, unit="m")
+        shape = geometry.Circle(center, radius)
+    else:
+        raw = t._raw("vertices", True)
+        if not isinstance(raw, list) or not 3 <= len(raw) <= MAX_VERTICES:
+            t.fail(f"expected a list of 3 to {MAX_VERTICES} points [x, y] (in m), got "
+                   f"{_short(raw)}", "vertices")
+        pts = [_point(t, p, "vertices", f"vertex {k}") for k, p in enumerate(raw)]
+        problem = geometry.polygon_problem(pts)
+        if problem:
+            t.fail(problem, "vertices")
+        shape = geometry.Polygon.from_points(pts)
+    model = t.choice("model", tuple(m for m in WALL_MODELS if m != "periodic"), required=True)
+    spec = WALL_MODELS[model]
+    if "velocity" in t.data:
+        t.fail("bodies are at rest: leave 'velocity' out", "velocity")
+    for key in t.data:  # a key of another model: say whose it is
+        owners = _key_owners(key)
+        if key not in spec.keys and owners and key != "temperature":
+            t.fail(f"only used by model '{owners[0]}' (this body is '{model}')", key)
+    temperature = t.number("temperature", gas.temperature, positive=True, maximum=1e5, unit="K")
+    extra = {k: t.number(k, 1.0, minimum=0.0, maximum=1.0) for k in spec.keys}
+    panels = t.integer("panels", DEFAULT_PANELS[kind], minimum=1, maximum=100_000)
+    if kind == "polygon" and panels < len(shape.vertices):
+        t.fail(f"a polygon needs at least one panel per edge ({len(shape.vertices)}), got {panels}",
+               "panels")
+    ref = t.number("reference_length", shape.size, positive=True, maximum=1e3, unit="m")
+    t.finish()
+    return BodySpec(name, shape, WallSpec(model, temperature, (0.0, 0.0, 0.0), **extra), panels, ref)
+
+
+def _read_bodies(top: _Table, gas: GasSpec, domain: DomainSpec, walls) -> tuple[BodySpec, ...]:
+    raw = top._raw("body", False)
+    if raw is None:
+        return ()
+    if domain.dim != 2:
+        top.fail("bodies need a 2-D domain (domain.length = [Lx, Ly], domain.cells = [nx, ny])",
+                 "body")
+    if not isinstance(raw, list) or not all(isinstance(b, dict) for b in raw):
+        top.fail("expected one or more [[body]] tables", "body")
+    bodies = []
+    for k, data in enumerate(raw):
+        t = _Table(data, f"body[{k}]", top.file)
+        b = _read_body(t, gas, k)
+        where = "center" if isinstance(b.shape, geometry.Circle) else "vertices"
+        if geometry.outside_box(b.shape, domain.length, domain.height):
+            t.fail(f"the body reaches outside the domain [0, {domain.length:g}] x "
+                   f"[0, {domain.height:g}] m", where)
+        x0, y0, x1, y1 = b.shape.box
+        for side, w, touch in zip(domain.sides, walls, (x0 <= 0.0, x1 >= domain.length,
+                                                        y0 <= 0.0, y1 >= domain.height)):
+            if touch and w.is_open:
+                t.fail(f"the body touches side {side}, which is open ('{w.model}'): molecules "
+                       "enter there; keep bodies off open sides", where)
+        for other in bodies:
+            if other.name == b.name:
+                t.fail(f"'{b.name}' is the name of another body", "name")
+            if geometry.shapes_overlap(b.shape, other.shape):
+                t.fail(f"overlaps or touches body '{other.name}': bodies must be apart", where)
+        bodies.append(b)
+    area = sum(b.shape.area for b in bodies)
+    if area >= domain.length * domain.height * (1.0 - 1e-9):
+        top.fail("the bodies fill the domain: no room for the gas", "body")
+    return tuple(bodies)
+
+
 def _read_shock(t: _Table | None) -> ShockSpec | None:
     if t is None:
         return None
@@ -629,6 +730,7 @@ def parse_case(text: str, path: str = "<case>") -> Case:
         top.fail("the shock case is 1-D: give domain.length and domain.cells as single values",
                  "shock")
     walls = _read_walls(top, gas, domain) if shock is None else _shock_walls(top, gas, shock)
+    bodies = _read_bodies(top, gas, domain, walls)
     _check_open_sides_gas(top, gas, walls, shock, domain.sides)
     initial = _read_initial(top.table("initial"))
     if domain.dim == 2 and initial.profile != "uniform":
@@ -636,7 +738,7 @@ def parse_case(text: str, path: str = "<case>") -> Case:
     numerics = _read_numerics(top.table("numerics"))
     run = _read_run(top.table("run"))
     top.finish()
-    return Case(path, text, title, gas, domain, walls, initial, numerics, run, shock)
+    return Case(path, text, title, gas, domain, walls, initial, numerics, run, shock, bodies)
 
 
 def load_case(path: str | Path) -> Case:

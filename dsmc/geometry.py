@@ -165,6 +165,12 @@ def _centroid(shape: Shape) -> np.ndarray:
     return np.array([np.sum((x + np.roll(x, -1)) * cross), np.sum((y + np.roll(y, -1)) * cross)]) / (6.0 * a)
 
 
+def empty_tables() -> BodyTables:
+    """The tables of a domain without bodies (the kernels take the same arrays, empty)."""
+    return BodyTables(np.zeros((0, kb.N_ECOL)), np.zeros((0, 4)), np.zeros(1, dtype=np.int64),
+                      Panels(*(np.zeros((0, 2)),) * 2, *(np.zeros(0),) * 4))
+
+
 def body_tables(shapes, panels) -> BodyTables:
     """Kernel tables of ``shapes`` with ``panels[b]`` sampling panels requested for body ``b``."""
     rows, boxes, first = [], [], [0]

@@ -14,8 +14,11 @@ face of each side), ``extent`` (domain size per axis) and ``cell_size``
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
+
+from dsmc import geometry
 
 UNIT_AREA = 1.0  # m^2: a 1-D slab is a column of unit cross-section
 UNIT_DEPTH = 1.0  # m: a 2-D planar domain is a prism of unit depth in z
@@ -90,12 +93,18 @@ class Grid2D:
 
     Cell ``(ix, iy)`` has the flat index ``c = ix + nx * iy``, so a field of
     ``cells`` values reshaped (C order) to ``(ny, nx)`` is indexed ``[iy, ix]``.
+
+    ``shapes`` are the embedded bodies (:mod:`dsmc.geometry`): a cell's
+    volume is its gas area (cell area minus the body area inside it, exact)
+    times the unit depth, 0 for a cell a body covers; ``volume`` is the gas
+    volume of the domain.
     """
 
     lx: float
     ly: float
     nx: int
     ny: int
+    shapes: tuple = ()
 
     @property
     def cells(self) -> int:
@@ -135,12 +144,16 @@ class Grid2D:
         xc, yc = np.meshgrid(self.x_centers, self.y_centers)  # (ny, nx)
         return np.column_stack([xc.ravel(), yc.ravel()])
 
-    @property
+    @cached_property
     def volumes(self) -> np.ndarray:
+        if self.shapes:
+            return geometry.cut_volumes(self.shapes, self.x_edges, self.y_edges, UNIT_DEPTH)
         return np.full(self.cells, self.dx * self.dy * UNIT_DEPTH)
 
     @property
     def volume(self) -> float:
+        if self.shapes:
+            return (self.lx * self.ly - sum(s.area for s in self.shapes)) * UNIT_DEPTH
         return self.lx * self.ly * UNIT_DEPTH
 
     @property

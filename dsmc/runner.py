@@ -129,7 +129,7 @@ def reduce_samples(sim: Simulation, comm) -> None:
     """Add the batch sums of all ranks into rank 0's simulation (in place)."""
     root = comm.Get_rank() == 0
     for b in sim.batches:
-        for name in ("moments", "walls", "collisions", "inflow"):
+        for name in ("moments", "walls", "collisions", "inflow", "surfaces"):
             buf = np.ascontiguousarray(getattr(b, name))
             total = np.empty_like(buf) if root else None
             comm.Reduce(buf, total, root=0)
@@ -158,7 +158,7 @@ def _checked_state(path: Path, state: dict, sim: Simulation) -> dict:
 
 # state entries whose first dimension depends on the run's progress
 _GROWING = {"pos", "v", "sp", "move_state", "windows", "targets", "batch_moments", "batch_walls",
-            "batch_collisions", "batch_inflow", "batch_samples", "batch_steps"}
+            "batch_collisions", "batch_inflow", "batch_surfaces", "batch_samples", "batch_steps"}
 
 
 def run_case(case, output: Path, *, seed=None, threads=None, force=False, resume=False,

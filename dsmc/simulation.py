@@ -41,11 +41,12 @@ from dataclasses import dataclass
 import numba
 import numpy as np
 
-from dsmc import stats
+from dsmc import geometry, stats
 from dsmc.case import Case
 from dsmc.gas import kinetic
 from dsmc.grid import UNIT_AREA, UNIT_DEPTH, Grid1D, Grid2D
 from dsmc.gas.shock import shock_states
+from dsmc.kernels.bodies import mark_inside
 from dsmc.kernels.collide import N_COLL_STATS, collide_ntc
 from dsmc.kernels.inject import (N_INJECT_ACC, fill_slab_1d, inject_1d, number_flux,
                                   relax_face_drift)
@@ -53,12 +54,16 @@ from dsmc.kernels.move import N_WALL_ACC, inject_2d, move_1d, move_2d, n_blocks
 from dsmc.kernels.rng import fill_cells_1d, fill_cells_2d, fill_uniform, new_streams
 from dsmc.kernels.sample import N_MOMENTS, sample_cells
 from dsmc.kernels.sort import SORT_CHUNKS, keys_1d, keys_2d
+from dsmc.kernels.surfaces import W_NCOL
 from dsmc.models import COLLISION_MODELS, open_row, wall_row
 from dsmc.particles import Particles
 from dsmc.steady import relative_errors, steady, target_reached
 
 BLOCK_SIZE = 4096  # particles per random stream in the move kernel
 RELAX_STEPS = 500.0  # steps over which a 'pressure' side's reservoir drift follows the gas
+# distance from a body surface, in cell sizes, at which a re-emitted particle is put: far above
+# the round-off of the hit point (1e-16 of the coordinates), far below any physical length
+SURFACE_OFFSET = 1e-9
 
 
 @dataclass
@@ -67,14 +72,17 @@ class _Batch:
     walls: np.ndarray  # (sides, 5): 2 sides in 1-D, 4 in 2-D
     collisions: np.ndarray  # (cells, 2)
     inflow: np.ndarray  # (sides, 5): count, momentum, energy of the molecules injected per side
+    surfaces: np.ndarray  # (panels, 5): what each body panel received, as walls
     samples: int = 0
     steps: int = 0
 
 
-def make_grid(domain) -> Grid1D | Grid2D:
-    """The grid of a ``[domain]``: a 1-D slab or a 2-D planar box."""
+def make_grid(domain, bodies=()) -> Grid1D | Grid2D:
+    """The grid of a ``[domain]``: a 1-D slab or a 2-D planar box (with the cut cells of the
+    embedded ``bodies``, :class:`dsmc.case.BodySpec`)."""
     if domain.dim == 2:
-        return Grid2D(domain.length, domain.height, domain.cells, domain.cells_y)
+        return Grid2D(domain.length, domain.height, domain.cells, domain.cells_y,
+                      tuple(b.shape for b in bodies))
     return Grid1D(domain.length, domain.cells)
 
 
@@ -93,7 +101,7 @@ class Simulation:
         self.seed = case.run.seed if seed is None else int(seed)
         self.replica = replica
         gas = case.gas
-        self.grid = make_grid(case.domain)
+        self.grid = make_grid(case.domain, case.bodies)
         self.n_sides = len(self.grid.sides)
         self.species = list(gas.all_species)
         self.mole_fractions = np.array(gas.mole_fractions, dtype=float)
@@ -112,6 +120,17 @@ class Simulation:
                                         w.normal_accommodation, w.tangential_accommodation)
                                for w in case.walls])
         self.open_sides = any(w.is_open for w in case.walls)
+        # embedded bodies (2-D): kernel tables, one wall row per body, panel accumulators
+        # (one row per sort chunk of the move kernel, one per side for injected molecules)
+        self.bodies = (geometry.body_tables([b.shape for b in case.bodies],
+                                            [b.panels for b in case.bodies])
+                       if case.bodies else geometry.empty_tables())
+        self.body_walls = np.array([wall_row(b.wall.model, b.wall.temperature, b.wall.velocity,
+                                             b.wall.accommodation, b.wall.normal_accommodation,
+                                             b.wall.tangential_accommodation)
+                                    for b in case.bodies]).reshape(-1, W_NCOL)
+        self._surf_acc = np.zeros((SORT_CHUNKS + self.n_sides, self.bodies.n_panels, N_WALL_ACC))
+        self.surface_offset = SURFACE_OFFSET * self.grid.cell_size
         self.shock = (shock_states(case.shock.mach, gas.number_density, gas.temperature,
                                    gas.species.mass) if case.shock is not None else None)
         self.dt = case.numerics.time_step or self.auto_time_step()
@@ -285,12 +304,12 @@ class Simulation:
         ppc = self.case.numerics.particles_per_cell
         rng = np.random.Generator(np.random.PCG64(self.init_state[0, 0]))
         expected = ppc * rel
+        if self.case.bodies:  # cut cells hold particles in proportion to their gas volume
+            expected = expected * self.volume / (self.grid.dx * self.grid.dy * UNIT_DEPTH)
         counts = np.floor(expected + rng.random(expected.size)).astype(np.int64)
         start = np.zeros(counts.size + 1, dtype=np.int64)
         np.cumsum(counts, out=start[1:])
         n = int(start[-1])
-        # the weight makes the particles present carry exactly the case's gas amount
-        self.weight = self.initial_mean_density() * self.grid.volume / max(n, 1)
         self._reserve(n)
         p = self.particles
         p.n = n
@@ -298,9 +317,14 @@ class Simulation:
         if self.grid.dim == 2:
             fill_cells_2d(self.init_state, 0, start, self.grid.nx, self.grid.dx, self.grid.dy,
                           sigma, np.ascontiguousarray(u), p.pos, p.v)
+            if self.case.bodies:
+                counts = self._out_of_bodies(rng, counts)
+                n = p.n
         else:
             fill_cells_1d(self.init_state, 0, start, self.grid.dx, sigma, np.ascontiguousarray(u),
                           p.pos, p.v)
+        # the weight makes the particles present carry exactly the case's gas amount
+        self.weight = self.initial_mean_density() * self.grid.volume / max(n, 1)
         p.sp[:n] = 0
         cell = np.repeat(np.arange(counts.size), counts)
         if len(self.species) > 1:
@@ -314,6 +338,36 @@ class Simulation:
         g_ref = 3.0 * math.sqrt(4.0 * kinetic.K_B * max(T.max(), 1.0) / self.mass.min())
         self.sgmax[:] = np.max(self.pair_c * g_ref ** (2.0 * self.pair_exp))
         self._sort()
+
+    def _out_of_bodies(self, rng, counts: np.ndarray, rounds: int = 200) -> np.ndarray:
+        """Redraw the initial positions that fell inside a body, uniformly in their cell, until
+        they are outside; after ``rounds`` rounds the few left (in cut cells a body all but
+        covers) are dropped.  Returns the particle count per cell kept."""
+        p, g, t = self.particles, self.grid, self.bodies
+        n = p.n
+        cell = np.repeat(np.arange(counts.size), counts)
+        inside = np.zeros(n, dtype=np.bool_)
+        mark_inside(p.pos, n, t.elem, t.box, t.first, inside)
+        idx = np.flatnonzero(inside)
+        for _ in range(rounds):
+            if idx.size == 0:
+                break
+            c = cell[idx]
+            xy = np.column_stack([(c % g.nx + rng.random(idx.size)) * g.dx,
+                                  (c // g.nx + rng.random(idx.size)) * g.dy])
+            p.pos[idx] = xy
+            still = np.zeros(idx.size, dtype=np.bool_)
+            mark_inside(xy, idx.size, t.elem, t.box, t.first, still)
+            idx = idx[still]
+        if idx.size:
+            keep = np.ones(n, dtype=bool)
+            keep[idx] = False
+            m = int(keep.sum())
+            p.pos[:m] = p.pos[:n][keep]
+            p.v[:m] = p.v[:n][keep]
+            p.n = m
+            counts = np.bincount(cell[keep], minlength=counts.size)
+        return counts
 
     def initial_mean_density(self) -> float:
         """Mean number density of the initial gas, 1/m^3 (the RH step of a shock case)."""
@@ -436,9 +490,13 @@ class Simulation:
         p = self.particles
         g = self.grid
         if g.dim == 2:
+            t = self.bodies
+            if self.case.bodies:
+                self._surf_acc[:] = 0.0
             move_2d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, self.dt, g.lx, g.ly, self.walls,
                     self.mass, self.rot_dof, self.theta_vib, self.move_state, BLOCK_SIZE,
-                    self._wall_acc, g.nx, g.ny, p.key, self._hist)
+                    self._wall_acc, g.nx, g.ny, p.key, self._hist, t.elem, t.box, t.first,
+                    self.body_walls, self._surf_acc, self.surface_offset)
             return
         move_1d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, self.dt, g.length, self.walls,
                 self.mass, self.rot_dof, self.theta_vib, self.move_state, BLOCK_SIZE,
@@ -516,10 +574,13 @@ class Simulation:
                 inject_1d(p.pos, p.v, p.sp, p.n, n_new, x0, direction, g.length, self.dt, u[0],
                           T_res, m, 0, self.inject_state, side, self._inject_acc[side])
             else:
+                t = self.bodies
                 inject_2d(p.pos, p.v, p.sp, p.erot, p.vib, p.n, count, side,
                           (g.dy, g.dx)[axis], u, T_res, m, 0, g.lx, g.ly, self.walls, self.dt,
                           int(self.rot_dof[0]), float(self.theta_vib[0]), self.inject_state,
-                          self._inject_acc[side, 0], self._inject_wall_acc)
+                          self._inject_acc[side, 0], self._inject_wall_acc, t.elem, t.box,
+                          t.first, self.body_walls, self._surf_acc[SORT_CHUNKS + side],
+                          self.surface_offset)
             p.n += n_new
             total += n_new
         self.lost_particles += int(self._inject_acc[:, 1, 0].sum())
@@ -606,6 +667,8 @@ class Simulation:
             b.walls += self._step_walls()
             if self.open_sides:
                 b.inflow += self._inject_acc[:, 0, :]
+            if self.case.bodies:
+                b.surfaces += self._surf_acc.sum(axis=0)
             b.steps += 1
             if take:
                 if b.samples % 2 == 1:
@@ -628,7 +691,8 @@ class Simulation:
     def _new_batch(self) -> _Batch:
         nc, ns = self.grid.cells, len(self.species)
         return _Batch(np.zeros((nc, ns, N_MOMENTS)), np.zeros((self.n_sides, N_WALL_ACC)),
-                      np.zeros((nc, N_COLL_STATS)), np.zeros((self.n_sides, N_INJECT_ACC)))
+                      np.zeros((nc, N_COLL_STATS)), np.zeros((self.n_sides, N_INJECT_ACC)),
+                      np.zeros((self._surf_acc.shape[1], N_WALL_ACC)))
 
     def reset_samples(self, interval: int | None = None):
         """Discard samples; later sampled steps sample every ``interval`` steps."""
@@ -781,6 +845,7 @@ class Simulation:
             "batch_walls": np.stack([b.walls for b in batches]),
             "batch_collisions": np.stack([b.collisions for b in batches]),
             "batch_inflow": np.stack([b.inflow for b in batches]),
+            "batch_surfaces": np.stack([b.surfaces for b in batches]),
             "batch_samples": np.array([b.samples for b in batches]),
             "batch_steps": np.array([b.steps for b in batches]),
         }
@@ -809,10 +874,11 @@ class Simulation:
         self.steady_detected = bool(st["steady_detected"])
         self.windows = list(np.asarray(st["windows"]))
         self._target_history = list(np.asarray(st["targets"]))
-        batches = [_Batch(m.copy(), w.copy(), c.copy(), i.copy(), int(ns), int(nst))
-                   for m, w, c, i, ns, nst in
+        batches = [_Batch(m.copy(), w.copy(), c.copy(), i.copy(), f.copy(), int(ns), int(nst))
+                   for m, w, c, i, f, ns, nst in
                    zip(st["batch_moments"], st["batch_walls"], st["batch_collisions"],
-                       st["batch_inflow"], st["batch_samples"], st["batch_steps"])]
+                       st["batch_inflow"], st["batch_surfaces"], st["batch_samples"],
+                       st["batch_steps"])]
         self.batches, self._batch = batches[:-1], batches[-1]
         self._sort()
 
@@ -839,6 +905,45 @@ class Simulation:
         total = self._cell_fields(sum(b.moments for b in batches), sum(b.samples for b in batches))
         return {k: (total[k], stats.batch_error(np.stack([f[k] for f in per])))
                 for k in total}
+
+    def freestream(self) -> dict[str, float | np.ndarray]:
+        """The state the body coefficients refer to: the ``[gas]`` state (number density,
+        temperature, velocity) of a single-species gas, and its density, pressure and speed."""
+        gas = self.case.gas
+        u = np.asarray(gas.velocity, dtype=float)
+        rho = float(np.sum(self.mole_fractions * self.mass)) * gas.number_density
+        return {"number_density": gas.number_density, "temperature": gas.temperature,
+                "velocity": u, "mass_density": rho, "pressure": gas.pressure,
+                "speed": float(math.hypot(u[0], u[1]))}
+
+    def body_fields(self) -> list[dict[str, tuple[np.ndarray, np.ndarray]]]:
+        """Per body (``case.bodies``): ``{name: (mean, standard error)}`` of the panel
+        quantities (:func:`stats.panel_fields`), the force (3,) and heat rate per unit depth
+        (:func:`stats.body_loads`) and, when the freestream moves in the plane, the
+        coefficients of :func:`stats.surface_coefficients`."""
+        batches = self._closed_batches()
+        fs = self.freestream()
+        panels = self.bodies.panels
+        out = []
+        for k, body in enumerate(self.case.bodies):
+            sel = panels.body == k
+
+            def figures(acc, duration):
+                f = stats.panel_fields(acc[..., sel, :], duration, self.weight, panels.length[sel],
+                                       panels.normal[sel], UNIT_DEPTH)
+                loads = stats.body_loads(acc[..., sel, :], duration, self.weight, UNIT_DEPTH)
+                f.update(loads)
+                if fs["speed"] > 0.0:
+                    f.update(stats.surface_coefficients(
+                        f, loads, fs["mass_density"], fs["speed"], fs["pressure"],
+                        fs["velocity"][:2] / fs["speed"], body.reference_length))
+                return f
+
+            per = [figures(b.surfaces, b.steps * self.dt) for b in batches]
+            total = figures(sum(b.surfaces for b in batches), sum(b.steps for b in batches) * self.dt)
+            out.append({name: (total[name], stats.batch_error(np.stack([f[name] for f in per])))
+                        for name in total})
+        return out
 
     def wall_fields(self) -> list[dict[str, tuple[np.ndarray, np.ndarray]]]:
         """Per side (``grid.sides``: xmin, xmax[, ymin, ymax]):
@@ -1122,9 +1227,65 @@ def result_tree(sim: Simulation) -> dict:
             g["final_drift"] = Data(drift if sim.grid.dim == 2 else drift[0], "m/s")
         tree["walls"][side] = g
     tree["run"]["lost_particles"] = Data(sim.lost_particles, "1")
+    if case.bodies:
+        tree["freestream"], tree["bodies"] = bodies_tree(sim)
     if sim.shock is not None:
         tree["shock"] = shock_tree(sim, fields)
     return tree
+
+
+BODY_UNITS = {**stats.PANEL_UNITS, "force": "N/m", "heat_transfer_rate": "W/m", "drag": "N/m",
+              "lift": "N/m", "pressure_coefficient": "1", "skin_friction_coefficient": "1",
+              "heat_transfer_coefficient": "1", "drag_coefficient": "1", "lift_coefficient": "1"}
+
+
+def bodies_tree(sim: Simulation) -> tuple[dict, dict]:
+    """The ``/freestream`` group (the state the coefficients refer to) and the ``/bodies``
+    group: per body its outline, panel geometry, panel quantities and loads with standard
+    errors (:meth:`Simulation.body_fields`)."""
+    from dsmc.io.results import Data
+
+    fs = sim.freestream()
+    free = {
+        "@attrs": {"description": "state the body coefficients refer to: the [gas] state"},
+        "number_density": Data(fs["number_density"], "1/m^3"),
+        "temperature": Data(fs["temperature"], "K"),
+        "velocity": Data(fs["velocity"], "m/s"),
+        "mass_density": Data(fs["mass_density"], "kg/m^3"),
+        "pressure": Data(fs["pressure"], "Pa"),
+        "speed": Data(fs["speed"], "m/s"),
+        "dynamic_pressure": Data(0.5 * fs["mass_density"] * fs["speed"] ** 2, "Pa"),
+    }
+    panels = sim.bodies.panels
+    tree = {"@attrs": {"depth": UNIT_DEPTH,
+                       "panel_tangent": "(-n_y, n_x): counter-clockwise along the outline"}}
+    for k, (body, fields) in enumerate(zip(sim.case.bodies, sim.body_fields())):
+        sel = panels.body == k
+        circle = isinstance(body.shape, geometry.Circle)
+        w = body.wall
+        g = {"@attrs": {"shape": "circle" if circle else "polygon", "model": w.model,
+                        "accommodation": w.accommodation,
+                        "normal_accommodation": w.normal_accommodation,
+                        "tangential_accommodation": w.tangential_accommodation,
+                        "panels": int(sel.sum())},
+             "temperature": Data(w.temperature, "K"),
+             "reference_length": Data(body.reference_length, "m"),
+             "area": Data(body.shape.area, "m^2"),
+             "panel_center": Data(panels.center[sel], "m"),
+             "panel_normal": Data(panels.normal[sel], "1"),
+             "panel_length": Data(panels.length[sel], "m"),
+             "panel_arc": Data(panels.arc[sel], "m"),
+             "panel_angle": Data(panels.angle[sel], "rad")}
+        if circle:
+            g["center"] = Data(np.array(body.shape.center), "m")
+            g["radius"] = Data(body.shape.radius, "m")
+        else:
+            g["vertices"] = Data(body.shape.points, "m")
+        for name, (mean, err) in fields.items():
+            g[name] = Data(mean, BODY_UNITS[name])
+            g[name + "_stderr"] = Data(err, BODY_UNITS[name])
+        tree[body.name] = g
+    return free, tree
 
 
 def shock_tree(sim: Simulation, fields) -> dict:

@@ -217,3 +217,76 @@ def batch_error(values: np.ndarray) -> np.ndarray:
     if b < 2:
         return np.full(values.shape[1:], np.nan)
     return values.std(axis=0, ddof=1) / np.sqrt(b)
+
+
+PANEL_UNITS = {
+    "number_flux": "1/(m^2 s)",
+    "pressure": "Pa",
+    "shear_stress": "Pa",
+    "heat_flux": "W/m^2",
+}
+
+
+def panel_fields(acc: np.ndarray, duration: float, weight: float, length: np.ndarray,
+                 normal: np.ndarray, depth: float = 1.0) -> dict[str, np.ndarray]:
+    """Surface quantities of the panels of bodies at rest from summed accumulators (..., P, 5).
+
+    ``acc`` is laid out as for walls (hits, momentum given to the panel (3),
+    energy given to it); ``length`` (P,) and ``normal`` (P, 2, out of the
+    body) are the panels' geometry (:class:`dsmc.geometry.Panels`).  Per
+    panel: ``pressure`` = -(force per area) . n, ``shear_stress`` = (force per
+    area) . t along the panel tangent ``t = (-n_y, n_x)``, ``heat_flux`` = the
+    energy received per area and time (the body is at rest, so it is all
+    heat), ``number_flux`` = hits per area and time.
+    """
+    acc = np.asarray(acc, dtype=float)
+    f = weight / (np.asarray(length) * depth * duration)  # (P,)
+    fx = acc[..., 1] * f
+    fy = acc[..., 2] * f
+    nx, ny = normal[:, 0], normal[:, 1]
+    return {
+        "number_flux": acc[..., 0] * f,
+        "pressure": -(fx * nx + fy * ny),
+        "shear_stress": -fx * ny + fy * nx,
+        "heat_flux": acc[..., 4] * f,
+    }
+
+
+def body_loads(acc: np.ndarray, duration: float, weight: float, depth: float = 1.0
+               ) -> dict[str, np.ndarray]:
+    """Force (3,) in N per metre of depth and heat rate in W per metre on one body, from the
+    summed accumulators (..., P, 5) of its panels."""
+    acc = np.asarray(acc, dtype=float)
+    f = weight / (depth * duration)
+    return {"force": acc[..., 1:4].sum(-2) * f, "heat_transfer_rate": acc[..., 4].sum(-1) * f}
+
+
+def surface_coefficients(panel: dict, loads: dict, rho: float, speed: float, p_inf: float,
+                         direction, reference_length: float) -> dict[str, np.ndarray]:
+    """Coefficients against the freestream (density ``rho``, speed ``speed``, pressure
+    ``p_inf``, in-plane unit ``direction`` of its velocity), with the dynamic pressure
+    ``q = rho U^2 / 2`` (aerodynamic conventions, e.g. Anderson, Fundamentals of
+    Aerodynamics; Bird 1994 ch. 7 for their free-molecular values):
+
+    * per panel ``pressure_coefficient = (p - p_inf) / q``,
+      ``skin_friction_coefficient = tau / q``,
+      ``heat_transfer_coefficient = q_heat / (rho U^3 / 2)``;
+    * per body (per unit depth, reference length ``L``): ``drag`` = force along
+      the freestream direction, ``lift`` = force along that direction turned
+      +90 degrees (N/m), ``drag_coefficient = drag / (q L)``,
+      ``lift_coefficient = lift / (q L)``.
+    """
+    q = 0.5 * rho * speed * speed
+    ex, ey = float(direction[0]), float(direction[1])
+    F = loads["force"]
+    drag = F[..., 0] * ex + F[..., 1] * ey
+    lift = -F[..., 0] * ey + F[..., 1] * ex
+    return {
+        "pressure_coefficient": (panel["pressure"] - p_inf) / q,
+        "skin_friction_coefficient": panel["shear_stress"] / q,
+        "heat_transfer_coefficient": panel["heat_flux"] / (q * speed),
+        "drag": drag,
+        "lift": lift,
+        "drag_coefficient": drag / (q * reference_length),
+        "lift_coefficient": lift / (q * reference_length),
+    }

@@ -22,6 +22,8 @@ import pytest
 from scipy import constants
 
 from dsmc.case import parse_case
+from dsmc.geometry import empty_tables
+from dsmc.kernels.surfaces import W_NCOL
 from dsmc.errors import CaseError
 from dsmc.io.results import write_results
 from dsmc.io.xdmf import write_xdmf
@@ -77,6 +79,12 @@ PERIODIC = 'model = "periodic"'
 # ---------------------------------------------------------------------------- kernel geometry
 
 
+_T = empty_tables()
+# body arguments of move_2d for a box without bodies: tables, wall rows, panel sums, offset
+NO_BODIES = (_T.elem, _T.box, _T.first, np.zeros((0, W_NCOL)), np.zeros((SORT_CHUNKS, 0, N_WALL_ACC)),
+             1e-12)
+
+
 def _move_one(pos, vel, dt, walls, nx=4, ny=4, lx=1.0, ly=1.0):
     pos = np.array([pos], dtype=float)
     v = np.array([vel], dtype=float)
@@ -86,7 +94,7 @@ def _move_one(pos, vel, dt, walls, nx=4, ny=4, lx=1.0, ly=1.0):
     state = new_streams(np.random.SeedSequence(1), 1)
     move_2d(pos, v, np.zeros(1, dtype=np.uint8), np.zeros(0), np.zeros(0, dtype=np.int32), 1, dt,
             lx, ly, walls, np.array([6.6e-26]), np.zeros(1, dtype=np.int64), np.zeros(1), state,
-            4096, acc, nx, ny, key, hist)
+            4096, acc, nx, ny, key, hist, *NO_BODIES)
     return pos[0], v[0], acc[0], key[0], hist[0]
 
 

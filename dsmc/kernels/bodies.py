@@ -205,13 +205,10 @@ def inside_bodies(x, y, elem, body_box, body_elem):
 
 
 @nb.njit(parallel=True, cache=True)
-def count_inside(pos, n, elem, body_box, body_elem):
-    """How many of the first ``n`` positions lie inside a body (an invariant check: 0)."""
-    total = 0
+def mark_inside(pos, n, elem, body_box, body_elem, out):
+    """``out[i]``: whether position ``i`` of the first ``n`` lies inside a body."""
     for i in nb.prange(n):
-        if inside_bodies(pos[i, 0], pos[i, 1], elem, body_box, body_elem) >= 0:
-            total += 1
-    return total
+        out[i] = inside_bodies(pos[i, 0], pos[i, 1], elem, body_box, body_elem) >= 0
 
 
 # ----------------------------------------------------------------------------- cut areas

@@ -31,6 +31,7 @@ import math
 import numba as nb
 import numpy as np
 
+from dsmc.kernels.bodies import E_BODY, first_body_hit, surface_point
 from dsmc.kernels.inject import K_B, add_injected, entering_velocity
 from dsmc.kernels.rng import uniform, uniform_open0
 from dsmc.kernels.sort import chunk_layout
@@ -166,75 +167,112 @@ def move_1d(pos, v, sp, erot, vib, n, dt, length, walls, mass, rot_dof, theta_vi
 
 @nb.njit(cache=True)
 def _fly_2d(pos, v, erot, vib, i, dt, lx, ly, walls, per_x, per_y, m, rot_dof, theta_vib,
-            state, b, acc):
+            state, b, acc, elem, body_box, body_first, body_walls, surf, eps):
     """Flight of particle ``i`` of a 2-D box for the time ``dt``, hit by hit.
 
     The straight path ``r + v t`` meets the side ``x = 0`` at ``t = -x / v_x``
     (``v_x < 0``), ``x = lx`` at ``(lx - x) / v_x`` (``v_x > 0``), likewise in
-    y; the earliest crossing within the remaining time is taken.  On a wall
-    the particle is put on it (its coordinate normal to the side set exactly
-    to the side) and re-emitted, and the rest of the step is flown with the
-    new velocity.  On an open side it leaves: what it carries goes to
+    y, and the surface of an embedded body where
+    :func:`dsmc.kernels.bodies.first_body_hit` finds it (``elem``,
+    ``body_box``, ``body_first``: the body tables, empty without bodies); the
+    earliest event within the remaining time is taken.  On a wall the
+    particle is put on it (its coordinate normal to the side set exactly to
+    the side) and re-emitted, and the rest of the step is flown with the new
+    velocity.  On a body it is put on the surface, ``eps`` out along the
+    normal (:func:`dsmc.kernels.bodies.surface_point`), and re-emitted by the
+    body's wall row ``body_walls[body]``; what the panel receives goes to
+    ``surf[panel]``.  On an open side it leaves: what it carries goes to
     ``acc[b, side]`` (:func:`_leave`), its position stays the crossing point
     and the caller marks it removed.  A corner (x and y crossings at the same
     time) is deterministic: the x side first, then the y side at zero
-    remaining distance.  A periodic axis has no crossing; its coordinate is
-    wrapped by the caller (so it may lie outside the box on return).  Writes
-    the final position to ``pos[i]`` and returns whether the particle left
-    through an open side.  ``state``/``b``: the random stream of wall
-    re-emissions, also the first index of ``acc``.
+    remaining distance.  Without bodies a periodic axis has no crossing: its
+    coordinate is wrapped by the caller (so it may lie outside the box on
+    return); with bodies the crossing is an event, the particle is wrapped
+    there and flies on, so that bodies near a periodic side are met on the
+    wrapped path.  Writes the final position to ``pos[i]`` and returns
+    whether the particle left through an open side.  ``state``/``b``: the
+    random stream of re-emissions, also the first index of ``acc``.
     """
     vi = v[i]
     x = pos[i, 0]
     y = pos[i, 1]
     t = dt
     hits = 0
+    bodies = body_box.shape[0] > 0
+    skip = -1  # the body element just left: a path leaving a surface cannot meet it again
     while True:
         tx = t + 1.0  # no x crossing within the remaining time
         ty = t + 1.0
-        if not per_x:
+        if bodies or not per_x:
             xn = x + vi[0] * t
             if xn < 0.0:
                 tx = max(0.0, -x / vi[0])
             elif xn > lx:
                 tx = max(0.0, (lx - x) / vi[0])
-        if not per_y:
+        if bodies or not per_y:
             yn = y + vi[1] * t
             if yn < 0.0:
                 ty = max(0.0, -y / vi[1])
             elif yn > ly:
                 ty = max(0.0, (ly - y) / vi[1])
-        if tx > t and ty > t:
+        th = t + 1.0
+        k = -1
+        if bodies:
+            th, k = first_body_hit(x, y, vi[0], vi[1], min(t, tx, ty), elem, body_box, body_first,
+                                   skip)
+            if k < 0:
+                th = t + 1.0
+        if tx > t and ty > t and th > t:
             x += vi[0] * t
             y += vi[1] * t
             break
-        if tx <= ty:
-            y += vi[1] * tx
-            t -= tx
-            if vi[0] < 0.0:
-                x = 0.0
-                w, nx, ny = 0, 1.0, 0.0
-            else:
-                x = lx
-                w, nx, ny = 1, -1.0, 0.0
+        if k >= 0:
+            t -= th
+            x, y, nx, ny, panel = surface_point(x + vi[0] * th, y + vi[1] * th, elem[k], eps)
+            _hit(vi, body_walls[int(elem[k, E_BODY])], nx, ny, m, state, b, surf[panel], erot,
+                 vib, i, rot_dof, theta_vib)
+            skip = k
         else:
-            x += vi[0] * ty
-            t -= ty
-            if vi[1] < 0.0:
-                y = 0.0
-                w, nx, ny = 2, 0.0, 1.0
+            skip = -1
+            if tx <= ty:
+                y += vi[1] * tx
+                t -= tx
+                if vi[0] < 0.0:
+                    x = 0.0
+                    w, nx, ny = 0, 1.0, 0.0
+                else:
+                    x = lx
+                    w, nx, ny = 1, -1.0, 0.0
+                if per_x:  # only with bodies: wrap at the crossing and fly on
+                    x = lx - x
+                    hits += 1
+                    if hits >= MAX_HITS:
+                        break
+                    continue
             else:
-                y = ly
-                w, nx, ny = 3, 0.0, -1.0
-        if int(walls[w, W_MODEL]) == OPEN:
-            e_int = 0.0
-            if rot_dof > 0 or theta_vib > 0.0:
-                e_int = erot[i] + vib[i] * K_B * theta_vib
-            _leave(vi, m, e_int, acc[b, w])
-            pos[i, 0] = x
-            pos[i, 1] = y
-            return True
-        _hit(vi, walls[w], nx, ny, m, state, b, acc[b, w], erot, vib, i, rot_dof, theta_vib)
+                x += vi[0] * ty
+                t -= ty
+                if vi[1] < 0.0:
+                    y = 0.0
+                    w, nx, ny = 2, 0.0, 1.0
+                else:
+                    y = ly
+                    w, nx, ny = 3, 0.0, -1.0
+                if per_y:
+                    y = ly - y
+                    hits += 1
+                    if hits >= MAX_HITS:
+                        break
+                    continue
+            if int(walls[w, W_MODEL]) == OPEN:
+                e_int = 0.0
+                if rot_dof > 0 or theta_vib > 0.0:
+                    e_int = erot[i] + vib[i] * K_B * theta_vib
+                _leave(vi, m, e_int, acc[b, w])
+                pos[i, 0] = x
+                pos[i, 1] = y
+                return True
+            _hit(vi, walls[w], nx, ny, m, state, b, acc[b, w], erot, vib, i, rot_dof, theta_vib)
         hits += 1
         if t <= 0.0 or hits >= MAX_HITS:
             break
@@ -243,9 +281,24 @@ def _fly_2d(pos, v, erot, vib, i, dt, lx, ly, walls, per_x, per_y, m, rot_dof, t
     return False
 
 
+@nb.njit(inline="always")
+def _near_body(x0, y0, x1, y1, body_box):
+    """Whether the segment's bounding box overlaps a body's box."""
+    px0 = min(x0, x1)
+    px1 = max(x0, x1)
+    py0 = min(y0, y1)
+    py1 = max(y0, y1)
+    for b in range(body_box.shape[0]):
+        if not (px1 < body_box[b, 0] or px0 > body_box[b, 2] or py1 < body_box[b, 1]
+                or py0 > body_box[b, 3]):
+            return True
+    return False
+
+
 @nb.njit(parallel=True, cache=True)
 def move_2d(pos, v, sp, erot, vib, n, dt, lx, ly, walls, mass, rot_dof, theta_vib, state,
-            block_size, acc, nx, ny, key, hist):
+            block_size, acc, nx, ny, key, hist, elem, body_box, body_first, body_walls, surf_acc,
+            eps):
     """Advance particles ``0..n-1`` of a 2-D box ``[0, lx] x [0, ly]`` by ``dt``.
 
     The 2-D counterpart of :func:`move_1d`, with the same arguments except:
@@ -255,8 +308,16 @@ def move_2d(pos, v, sp, erot, vib, n, dt, lx, ly, walls, mass, rot_dof, theta_vi
     key of a particle in cell ``(ix, iy)`` is ``ix + nx * iy``
     (:func:`dsmc.kernels.sort.keys_2d`), with the histogram (``nx * ny + 1``
     columns, the last one the removed-particle bin) of the same chunks and
-    blocks.  Only a particle whose straight flight ends outside the box goes
-    through :func:`_fly_2d`.
+    blocks.  Only a particle whose straight flight ends outside the box, or
+    (with embedded bodies) passes through a body's bounding box, goes through
+    :func:`_fly_2d`.
+
+    Embedded bodies: ``elem``, ``body_box``, ``body_first`` are the tables of
+    :mod:`dsmc.kernels.bodies` (empty arrays without bodies), ``body_walls``
+    one wall row per body, ``surf_acc`` (rows, panels, N_WALL_ACC) the panel
+    accumulators, row ``ch`` for chunk ``ch`` (added to, not cleared: the
+    caller clears them), ``eps`` the distance from a surface at which a
+    re-emitted particle is put.
 
     A particle that leaves through an open side is marked removed
     (``pos[i, 0] = -1``, key ``nx * ny``, counted in that histogram bin) after
@@ -271,6 +332,7 @@ def move_2d(pos, v, sp, erot, vib, n, dt, lx, ly, walls, mass, rot_dof, theta_vi
     n_chunks, size = chunk_layout(n, block_size)
     per_x = int(walls[0, W_MODEL]) == PERIODIC
     per_y = int(walls[2, W_MODEL]) == PERIODIC
+    bodies = body_box.shape[0] > 0
     n_cells = nx * ny
     sx = nx / lx
     sy = ny / ly
@@ -278,16 +340,23 @@ def move_2d(pos, v, sp, erot, vib, n, dt, lx, ly, walls, mass, rot_dof, theta_vi
     for ch in nb.prange(n_chunks):
         c_lo, c_hi = _chunk_blocks(hist, ch, n_cells + 1, size, n, block_size, acc, 4)
         row = hist[ch]
+        surf = surf_acc[ch]
         gone[ch] = -1
         for b in range(c_lo // block_size, (c_hi + block_size - 1) // block_size):
             for i in range(b * block_size, min(c_hi, (b + 1) * block_size)):
                 x = pos[i, 0] + v[i, 0] * dt
                 y = pos[i, 1] + v[i, 1] * dt
-                if ((not per_x and (x < 0.0 or x > lx))
-                        or (not per_y and (y < 0.0 or y > ly))):
+                if bodies:
+                    fly = (x < 0.0 or x > lx or y < 0.0 or y > ly
+                           or _near_body(pos[i, 0], pos[i, 1], x, y, body_box))
+                else:
+                    fly = ((not per_x and (x < 0.0 or x > lx))
+                           or (not per_y and (y < 0.0 or y > ly)))
+                if fly:
                     si = sp[i]
                     if _fly_2d(pos, v, erot, vib, i, dt, lx, ly, walls, per_x, per_y, mass[si],
-                               rot_dof[si], theta_vib[si], state, b, acc):
+                               rot_dof[si], theta_vib[si], state, b, acc, elem, body_box,
+                               body_first, body_walls, surf, eps):
                         v[i, 0] = gone[ch]  # left through an open side: onto the list
                         gone[ch] = i
                     x = pos[i, 0]
@@ -312,7 +381,8 @@ def move_2d(pos, v, sp, erot, vib, n, dt, lx, ly, walls, mass, rot_dof, theta_vi
 
 @nb.njit(cache=True)
 def inject_2d(pos, v, sp, erot, vib, start, counts, side, face_size, face_u, temperature, mass,
-              species, lx, ly, walls, dt, rot_dof, theta_vib, state, acc, wall_acc):
+              species, lx, ly, walls, dt, rot_dof, theta_vib, state, acc, wall_acc, elem,
+              body_box, body_first, body_walls, surf, eps):
     """Write ``counts.sum()`` molecules entering a 2-D box through ``side`` at ``start..``.
 
     ``side`` is 0..3 (xmin, xmax, ymin, ymax); the side is cut into the faces
@@ -323,11 +393,12 @@ def inject_2d(pos, v, sp, erot, vib, start, counts, side, face_size, face_u, tem
     species' ``mass``, ``rot_dof``, ``theta_vib``).  Each starts at a
     uniformly distributed point of its face and flies a uniform fraction
     ``U`` in (0, 1] of ``dt`` through :func:`_fly_2d`: walls re-emit it (their
-    accumulators are ``wall_acc[side, wall]``), an open side removes it
-    (``pos[i, 0] = -1``, counted in ``wall_acc[side, open side]``).  Every
-    random number comes from stream ``side`` of ``state``.  ``acc``
-    (N_INJECT_ACC,) gets the count, momentum and kinetic energy of the
-    molecules that entered.
+    accumulators are ``wall_acc[side, wall]``), bodies too (their panels'
+    accumulators are ``surf``; the body tables and ``eps`` as in
+    :func:`move_2d`), an open side removes it (``pos[i, 0] = -1``, counted in
+    ``wall_acc[side, open side]``).  Every random number comes from stream
+    ``side`` of ``state``.  ``acc`` (N_INJECT_ACC,) gets the count, momentum
+    and kinetic energy of the molecules that entered.
     """
     axis = side // 2
     direction = 1.0 if side % 2 == 0 else -1.0
@@ -361,7 +432,8 @@ def inject_2d(pos, v, sp, erot, vib, start, counts, side, face_size, face_u, tem
                 vib[i] = 0
             add_injected(acc, mass, v0, v1, v2)
             if _fly_2d(pos, v, erot, vib, i, frac * dt, lx, ly, walls, per_x, per_y, mass, rot_dof,
-                       theta_vib, state, side, wall_acc):
+                       theta_vib, state, side, wall_acc, elem, body_box, body_first, body_walls,
+                       surf, eps):
                 pos[i, 0] = -1.0  # left through an open side within its first flight
             else:
                 if per_x:
