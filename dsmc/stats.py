@@ -89,14 +89,16 @@ def cell_fields(S: np.ndarray, n_samples: float, weight: float, volume: np.ndarr
                 mass: np.ndarray, rot_dof=None, theta_vib=None) -> dict[str, np.ndarray]:
     """Fields from summed moments ``S`` of shape (..., n_cells, n_species, 15).
 
-    Leading axes (e.g. batches) are kept.  Empty cells give NaN.  With
+    Leading axes (e.g. batches) are kept.  Empty cells and cells of zero volume give NaN.  With
     molecular species (``rot_dof`` per species, ``theta_vib`` per species in
     K, 0 = vibration off) the internal temperatures are added; with several
     species the per-species fields (shape (..., n_cells, n_species[, 3])).
     """
     S = np.asarray(S, dtype=float)
     m = np.asarray(mass, dtype=float)
-    scale = weight / (np.asarray(volume)[:, None] * n_samples)  # (cells, 1)
+    vol = np.asarray(volume, dtype=float)
+    # (cells, 1); a cell a body covers (volume 0) has no gas: NaN fields
+    scale = weight / (np.where(vol > 0.0, vol, np.nan)[:, None] * n_samples)
     N = S[..., 0]  # (..., cells, species)
     n_s = N * scale
     n = n_s.sum(-1)
