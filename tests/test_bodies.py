@@ -20,6 +20,7 @@ freestream, so the body sees the undisturbed freestream and its own re-emitted m
 from __future__ import annotations
 
 import math
+import xml.etree.ElementTree as ET
 
 import h5py
 import numba
@@ -30,6 +31,7 @@ from scipy import constants, special
 from dsmc.analysis import free_molecular as fm
 from dsmc.case import parse_case
 from dsmc.io.results import write_results
+from dsmc.io.xdmf import write_xdmf
 from dsmc.kernels.bodies import mark_inside
 from dsmc.simulation import Simulation, result_tree
 
@@ -319,3 +321,17 @@ def test_result_file_has_bodies_and_freestream(tmp_path):
         vol = f["grid/cell_volume"][()]
         assert vol.sum() == pytest.approx(4e-4 - bodies_area(1e-3), rel=1e-10)
         assert np.isnan(f["fields/temperature"][()][vol == 0]).all()
+    # the XDMF sidecar: the fields grid and one panel grid per body, every reference resolvable
+    root = ET.parse(write_xdmf(out)).getroot()
+    grids = {g.get("Name"): g for g in root.iter("Grid")}
+    assert {"hook", "pin"} <= set(grids)
+    assert grids["pin"].find("Topology").get("NumberOfElements") == "24"
+    with h5py.File(out) as f:
+        for item in root.iter("DataItem"):
+            if item.get("Format") != "HDF":
+                continue
+            file, path = item.text.split(":")
+            assert file == out.name
+            assert " ".join(map(str, f[path].shape)) == item.get("Dimensions"), path
+    names = {a.get("Name") for a in grids["hook"].iter("Attribute")}
+    assert {"pressure", "pressure_coefficient", "heat_flux_stderr"} <= names

@@ -6,7 +6,8 @@
 Two panels on the box: the chosen scalar field of ``/fields`` (shape
 ``(ny, nx)``, filled contours at the cell centres) with the streamlines of
 ``(u_x, u_y)``, and the relative standard error of that field, so noise is
-not read as structure.  Like ``tools/plot_shock.py`` it uses only h5py and
+not read as structure; embedded bodies (``/bodies``) are drawn filled on both.
+Like ``tools/plot_shock.py`` it uses only h5py and
 matplotlib; the layout is in ``docs/output.md`` (``/grid``, ``/fields``).
 """
 
@@ -54,17 +55,28 @@ def main(argv=None) -> int:
         units = f["fields"][args.field].attrs["units"]
         u = f["fields/velocity"][:]
         title = str(f.attrs.get("title", path.stem))
+        outlines = []  # embedded bodies: closed outlines (k, 2), m
+        for g in (f["bodies"].values() if "bodies" in f else ()):
+            if "vertices" in g:
+                v = g["vertices"][()]
+                outlines.append(np.vstack([v, v[:1]]))
+            else:
+                a = np.linspace(0.0, 2.0 * np.pi, 181)
+                outlines.append(g["center"][()] + g["radius"][()] * np.column_stack([np.cos(a), np.sin(a)]))
     size = max(x[-1] + x[0], y[-1] + y[0])  # the box extent (first centre is half a cell in)
     scale, unit = (1e6, "um") if size < 1e-3 else (1e3, "mm") if size < 1.0 else (1.0, "m")
     fig, axes = plt.subplots(1, 2, figsize=(11, 4.6), constrained_layout=True)
     cs = axes[0].contourf(x * scale, y * scale, val, levels=20, cmap="viridis")
     fig.colorbar(cs, ax=axes[0], label=f"{args.field} ({units})")
-    axes[0].streamplot(x * scale, y * scale, u[..., 0], u[..., 1], color="w", density=1.0,
-                       linewidth=0.7)
+    gas = np.isfinite(u[..., 0]) & np.isfinite(u[..., 1])
+    axes[0].streamplot(x * scale, y * scale, np.where(gas, u[..., 0], 0.0),
+                       np.where(gas, u[..., 1], 0.0), color="w", density=1.0, linewidth=0.7)
     rel = np.abs(err / np.where(val == 0, np.nan, val))
     cs = axes[1].contourf(x * scale, y * scale, rel, levels=20, cmap="magma")
     fig.colorbar(cs, ax=axes[1], label=f"relative standard error of {args.field}")
     for ax in axes:
+        for xy in outlines:
+            ax.fill(xy[:, 0] * scale, xy[:, 1] * scale, facecolor="0.6", edgecolor="k", lw=0.8)
         ax.set_aspect("equal")
         ax.set_xlabel(f"x ({unit})")
         ax.set_ylabel(f"y ({unit})")

@@ -11,6 +11,12 @@ shape ``(ny, nx, 3)`` named in ``VECTOR_FIELDS`` a cell-centred ``Vector``;
 the standard errors (``*_stderr``) are included the same way.  Other
 datasets (the pressure tensor, per-species fields) stay in the HDF5 file only.
 
+Each embedded body (``/bodies/NAME``) becomes a second grid named after it:
+the mid-points of its sampling panels as a ``Polyvertex`` topology with
+``XY`` geometry (``panel_center``), carrying every per-panel dataset (shape
+``(panels,)``: pressure, shear stress, heat and number flux, the
+coefficients and their standard errors) as a node-centred ``Scalar``.
+
 This module reads HDF5 with h5py and writes XML with the standard library:
 it does not import the engine.
 """
@@ -52,6 +58,11 @@ def write_xdmf(results: str | Path, out: str | Path | None = None) -> Path:
             elif ds.shape == (ny, nx, 3) and base in VECTOR_FIELDS:
                 fields.append((name, "Vector", ds.shape))
         title = str(f.attrs.get("title", ""))
+        surfaces = []
+        for name, g in (f["bodies"].items() if "bodies" in f else ()):
+            P = g["panel_center"].shape[0]
+            scalars = [k for k in sorted(g) if g[k].shape == (P,) and not k.startswith("panel_")]
+            surfaces.append((name, P, scalars))
     href = results.name  # the sidecar sits beside the result file
 
     root = ET.Element("Xdmf", Version="3.0")
@@ -72,6 +83,19 @@ def write_xdmf(results: str | Path, out: str | Path | None = None) -> Path:
         item = ET.SubElement(att, "DataItem", Dimensions=" ".join(str(s) for s in shape),
                              NumberType="Float", Precision="8", Format="HDF")
         item.text = f"{href}:/fields/{name}"
+    for body, P, scalars in surfaces:
+        grid = ET.SubElement(domain, "Grid", Name=body, GridType="Uniform")
+        ET.SubElement(grid, "Topology", TopologyType="Polyvertex", NumberOfElements=str(P),
+                      NodesPerElement="1")
+        geo = ET.SubElement(grid, "Geometry", GeometryType="XY")
+        item = ET.SubElement(geo, "DataItem", Dimensions=f"{P} 2", NumberType="Float",
+                             Precision="8", Format="HDF")
+        item.text = f"{href}:/bodies/{body}/panel_center"
+        for name in scalars:
+            att = ET.SubElement(grid, "Attribute", Name=name, AttributeType="Scalar", Center="Node")
+            item = ET.SubElement(att, "DataItem", Dimensions=str(P), NumberType="Float",
+                                 Precision="8", Format="HDF")
+            item.text = f"{href}:/bodies/{body}/{name}"
     ET.indent(root)
     text = '<?xml version="1.0" ?>\n' + ET.tostring(root, encoding="unicode") + "\n"
     out.write_text(text)
