@@ -527,15 +527,18 @@ class Simulation:
 
     def _update_local_drift(self):
         """Relax the 'pressure' sides' reservoir drift, face by face, toward the mean velocity
-        of the face's adjacent cell.
+        of the gas in the face's adjacent cell (:func:`relax_face_drift`).
 
-        The cell mean of one step is noisy; the relaxation factor 1/RELAX_STEPS
-        averages it over about RELAX_STEPS steps (our choice).
+        The cell's velocity of one step is noisy; the relaxation averages it over
+        about RELAX_STEPS steps (our choice), weighting each step by its particles
+        against the count the reservoir density gives the cell.
         """
         for side, w in enumerate(self.case.walls):
             if w.model != "pressure" or w.drift != "local":
                 continue
-            relax_face_drift(self.particles.v, self.cell_start, self.face_cells[side],
+            cells = self.face_cells[side]
+            n_ref = w.number_density * np.maximum(self.volume[cells], 0.0) / self.weight
+            relax_face_drift(self.particles.v, self.cell_start, cells, n_ref,
                              self.local_drift[self.side_faces(side)], RELAX_STEPS)
 
     def _inject(self):

@@ -204,20 +204,33 @@ def inject_1d(pos, v, sp, start, count, x0, direction, length, dt, u, temperatur
 
 
 @nb.njit(cache=True)
-def relax_face_drift(v, cell_start, cells, drift, relax_steps):
+def relax_face_drift(v, cell_start, cells, n_ref, drift, relax_steps):
     """Relax the reservoir drift ``drift[f]`` (3,) of each face ``f`` of a side toward the mean
-    velocity of the particles in its adjacent cell ``cells[f]`` (cell-sorted particles,
-    ``cell_start``), by ``1 / relax_steps`` of the difference; an empty cell leaves it."""
+    velocity of the gas in its adjacent cell ``cells[f]`` (cell-sorted particles, ``cell_start``).
+
+    Each step adds ``sum_i (v_i - drift) / (relax_steps * n_ref[f])`` over the cell's
+    particles, ``n_ref[f]`` the expected particle count of the cell (0: a cell without volume,
+    left alone): the drift tends to ``E[sum v] / E[N]``, the cell's momentum over its mass,
+    averaged over about ``relax_steps`` steps.  Averaging the per-step cell mean ``sum v / N``
+    instead is biased toward the inside: the numbers entering per step are fixed while those
+    leaving fluctuate, so a step with few molecules in the cell is one in which few left and
+    the entering ones weigh more (measured in a 1-D argon slab at 40 particles per cell between
+    a relaxing and a resting reservoir at one state: a 3.6 m/s drift into the slab, 1.1 %
+    excess density and a 2 m/s through-flow).  Should a cell hold more than
+    ``relax_steps * n_ref`` particles, the drift is set to their mean.
+    """
     for f in range(cells.size):
         a = cell_start[cells[f]]
         b = cell_start[cells[f] + 1]
-        if b <= a:
+        if b <= a or n_ref[f] <= 0.0:
             continue
+        scale = max(relax_steps * n_ref[f], float(b - a))
         for c in range(3):
-            total = v[a, c]
-            for i in range(a + 1, b):
-                total += v[i, c]
-            drift[f, c] += (total / (b - a) - drift[f, c]) / relax_steps
+            d = drift[f, c]
+            total = 0.0
+            for i in range(a, b):
+                total += v[i, c] - d
+            drift[f, c] = d + total / scale
 
 
 @nb.njit(cache=True)
