@@ -1026,12 +1026,15 @@ class Simulation:
                 "mean_collision_separation": mcs}
 
     def reference_length(self) -> float:
-        """Length of the Knudsen number: the slab width in 1-D; in 2-D the smallest extent
+        """Length of the Knudsen number: the slab width in 1-D; in 2-D the largest
+        ``reference_length`` of the embedded bodies if there are any, else the smallest extent
         between sides that are not periodic (walls or open sides; a periodic axis is
         unbounded), or the smallest extent if both axes are periodic."""
         g = self.grid
         if g.dim == 1:
             return g.length
+        if self.case.bodies:
+            return max(b.reference_length for b in self.case.bodies)
         walled = [e for a, e in enumerate(g.extent) if self.case.walls[2 * a].model != "periodic"]
         return min(walled or g.extent)
 
@@ -1043,15 +1046,26 @@ class Simulation:
             "cell_size_over_mean_free_path": self.grid.cell_size / lam,
             "time_step_over_collision_time": self.dt / tau,
             "cell_transit_fraction": self.dt * ref["most_probable_speed"] / self.grid.cell_size,
-            "particles_per_cell": self.n_particles / self.grid.cells,
+            # per cell of full size: cut cells count for their gas fraction
+            "particles_per_cell": self.n_particles * self.volume.max() / self.volume.sum(),
             "knudsen_number": lam / self.reference_length(),
         }
         if measured:
             f = self.fields()
             c = self.collision_summary()
-            out["particles_per_cell_min"] = float(np.nanmin(f["particles_per_cell"][0]))
+            # cut cells less than half gas hold few particles by design: not counted
+            whole = self.volume >= 0.5 * self.volume.max()
+            out["particles_per_cell_min"] = float(np.nanmin(f["particles_per_cell"][0][whole]))
             out["time_step_over_collision_time"] = self.dt * c["collision_rate"]
             out["mean_collision_separation_over_mean_free_path"] = c["mean_collision_separation"] / lam
+            if len(self.species) == 1:  # the local mean free path of the sampled n and T
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    local = kinetic.mean_free_path(self.species[0], f["temperature"][0],
+                                                   f["number_density"][0], self.model)
+                local = local[np.isfinite(local) & (local > 0)]
+                if local.size:
+                    out["cell_size_over_local_mean_free_path_max"] = float(
+                        self.grid.cell_size / local.min())
         return out
 
 
@@ -1070,6 +1084,9 @@ ADEQUACY_LIMITS = (
     ("particles_per_cell_min", "min", 5.0, "some cells hold very few particles"),
     ("mean_collision_separation_over_mean_free_path", "max", 0.25,
      "collision partners are far apart: use smaller cells"),
+    ("cell_size_over_local_mean_free_path_max", "max", 1.0,
+     "cells are larger than the local mean free path where the gas is densest (a shock layer, "
+     "a cold wall): use more cells"),
 )
 
 

@@ -38,7 +38,7 @@ from dsmc.kernels.rng import new_streams
 from dsmc.kernels.sort import SORT_CHUNKS, histogram
 from dsmc.models import open_row, wall_row
 from dsmc.simulation import Simulation, result_tree
-from tests.test_planar_2d import _one_thread, box_case  # noqa: F401 (one thread, autouse)
+from tests.test_planar_2d import NO_BODIES, _one_thread, box_case  # noqa: F401 (one thread, autouse)
 
 K_B = constants.k
 T0 = 300.0
@@ -69,7 +69,7 @@ def _move(pos, vel, dt, walls, nx=4, ny=4, lx=1.0, ly=1.0):
     hist = np.zeros((SORT_CHUNKS, nx * ny + 1), dtype=np.int32)
     move_2d(pos, v, np.zeros(n, dtype=np.uint8), np.zeros(0), np.zeros(0, dtype=np.int32), n, dt,
             lx, ly, walls, np.array([6.6e-26]), np.zeros(1, dtype=np.int64), np.zeros(1), state,
-            4096, acc, nx, ny, key, hist)
+            4096, acc, nx, ny, key, hist, *NO_BODIES)
     return pos, v, acc, key, hist
 
 

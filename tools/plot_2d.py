@@ -44,6 +44,7 @@ def main(argv=None) -> int:
             print(f"plot_2d: {path}: not a 2-D result file", file=sys.stderr)
             return 2
         x, y = f["grid/x"][:], f["grid/y"][:]
+        x_edges, y_edges = f["grid/x_edges"][:], f["grid/y_edges"][:]
         if args.field not in f["fields"] or f["fields"][args.field].shape != (y.size, x.size):
             names = [k for k in f["fields"] if f["fields"][k].shape == (y.size, x.size)
                      and not k.endswith("_stderr")]
@@ -77,6 +78,8 @@ def main(argv=None) -> int:
     for ax in axes:
         for xy in outlines:
             ax.fill(xy[:, 0] * scale, xy[:, 1] * scale, facecolor="0.6", edgecolor="k", lw=0.8)
+        ax.set_xlim(x_edges[0] * scale, x_edges[-1] * scale)
+        ax.set_ylim(y_edges[0] * scale, y_edges[-1] * scale)
         ax.set_aspect("equal")
         ax.set_xlabel(f"x ({unit})")
         ax.set_ylabel(f"y ({unit})")
