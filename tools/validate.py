@@ -12,7 +12,10 @@ normal shock the Rankine-Hugoniot states and the inverse density thickness measu
 tests.
 
 2-D planar box (``--only planar``): plane Couette flow in a box periodic in x against the 1-D
-slab of the same gap.
+slab of the same gap; free-molecular drag of a cylinder at three speed ratios (Bird 1994 ch. 7);
+the mass flow of a pressure-driven micro-channel over a rarefaction sweep, against the
+free-molecular (Clausing) value at Kn = 100 and 10 and against first-order slip flow at
+ell/H = 0.1 and 0.05.
 
 Molecular gases and mixtures (``--only internal`` runs these alone): rotational relaxation
 against the Jeans equation with the case's Z_rot; nitrogen conductivity from the shipped
@@ -266,6 +269,48 @@ def planar_2d(scale):
     row(f"2-D Couette wall shear, gap {GAP * 1e3:g} mm, vs 1-D slab", t2, s2, t1)
 
 
+def bodies_free_molecular(scale):
+    """Free-molecular loads on bodies (``tests/test_bodies.py``, here at more speed ratios):
+    cylinder drag (Bird 1994 ch. 7) and flat-plate drag and lift at incidence."""
+    from test_bodies import case_text
+
+    from dsmc.analysis import free_molecular as fm
+
+    for speed, Tw in ((300.0, 300.0), (800.0, 500.0), (2000.0, 300.0)):
+        body = f"""
+[[body]]
+shape = "circle"
+center = [0.01, 0.01]
+radius = 0.002
+model = "diffuse"
+temperature = {Tw!r}
+"""
+        sim = Simulation(parse_case(case_text(body, velocity=(speed, 0.0, 0.0),
+                                              samples=4000 * scale, batches=20)))
+        sim.run()
+        cd, err = sim.body_fields()[0]["drag_coefficient"]
+        s = speed / math.sqrt(2 * kinetic.K_B * 300.0 / sim.mass[0])
+        row(f"FM cylinder CD, s = {s:.2f}, Tw/T = {Tw / 300:g} (Bird 1994 ch. 7)", cd, err,
+            fm.cylinder(s, 300.0, Tw).CD)
+
+
+def microchannel(scale):
+    """Pressure-driven micro-channel over a rarefaction sweep (``tests/test_microchannel.py``):
+    free-molecular (Clausing) flow rate at Kn = 100 and 10, slip flow between two stations at
+    ell/H = 0.1 and 0.05 (cells of a third of the mean free path)."""
+    from test_microchannel import free_molecular_run, slip_channel_run, slip_ratio
+
+    for kn in (100.0, 10.0):
+        _, (mdot, err), _, exact = free_molecular_run(kn, samples=12000 * scale)
+        row(f"channel L/H = 2, Kn {kn:g}: mass flow vs free-molecular (Clausing)", mdot, err, exact)
+    for ell, cells in ((0.1, 36), (0.05, 72)):
+        sim = slip_channel_run(ell, cells, aspect=4, samples=10000 * scale,
+                               transient=2500 if ell >= 0.1 else 5000)
+        ratio, got = slip_ratio(sim, 1.25)
+        row(f"channel L/H = 4, ell/H = {got:.3f}: mass flow / first-order slip flow", ratio.mean(),
+            ratio.std(ddof=1) / math.sqrt(len(ratio)), 1.0)
+
+
 def main():
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--threads", type=int, default=None)
@@ -286,6 +331,8 @@ def main():
         internal_energy(scale)
     if args.only in (None, "planar"):
         planar_2d(scale)
+        bodies_free_molecular(scale)
+        microchannel(scale)
 
 
 if __name__ == "__main__":
