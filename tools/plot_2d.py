@@ -66,7 +66,12 @@ def main(argv=None) -> int:
                 outlines.append(g["center"][()] + g["radius"][()] * np.column_stack([np.cos(a), np.sin(a)]))
     size = max(x[-1] + x[0], y[-1] + y[0])  # the box extent (first centre is half a cell in)
     scale, unit = (1e6, "um") if size < 1e-3 else (1e3, "mm") if size < 1.0 else (1.0, "m")
-    fig, axes = plt.subplots(1, 2, figsize=(11, 4.6), constrained_layout=True)
+    aspect = (x_edges[-1] - x_edges[0]) / (y_edges[-1] - y_edges[0])
+    if aspect > 1.6:  # a wide box (a channel): the two panels one above the other
+        fig, axes = plt.subplots(2, 1, figsize=(11, 1.0 + 2 * min(4.6, 10.0 / aspect + 0.8)),
+                                 constrained_layout=True)
+    else:
+        fig, axes = plt.subplots(1, 2, figsize=(11, 4.6), constrained_layout=True)
     cs = axes[0].contourf(x * scale, y * scale, val, levels=20, cmap="viridis")
     fig.colorbar(cs, ax=axes[0], label=f"{args.field} ({units})")
     gas = np.isfinite(u[..., 0]) & np.isfinite(u[..., 1])
