@@ -20,6 +20,7 @@ freestream, so the body sees the undisturbed freestream and its own re-emitted m
 from __future__ import annotations
 
 import math
+import re
 import xml.etree.ElementTree as ET
 
 import h5py
@@ -28,8 +29,11 @@ import numpy as np
 import pytest
 from scipy import constants, special
 
+from conftest import ROOT, one_error_line
 from dsmc.analysis import free_molecular as fm
 from dsmc.case import parse_case
+from dsmc.cli import main
+from dsmc.errors import CaseError
 from dsmc.io.results import write_results
 from dsmc.io.xdmf import write_xdmf
 from dsmc.kernels.bodies import mark_inside
@@ -335,3 +339,52 @@ def test_result_file_has_bodies_and_freestream(tmp_path):
             assert " ".join(map(str, f[path].shape)) == item.get("Dimensions"), path
     names = {a.get("Name") for a in grids["hook"].iter("Attribute")}
     assert {"pressure", "pressure_coefficient", "heat_flux_stderr"} <= names
+
+
+# ------------------------------------------------------------------ case files
+
+DOMAIN_7x6 = case_text("", length=(7e-3, 6e-3), cells=(28, 24), sides=("inflow", "outflow",
+                                                                        "diffuse", "diffuse"))
+
+
+def test_documented_body_example_parses():
+    """The [[body]] example of docs/case-files.md is a valid pair of bodies."""
+    doc = (ROOT / "docs" / "case-files.md").read_text()
+    section = doc[doc.index("### Embedded bodies"):]
+    block = re.search(r"```toml\n(.*?)```", section, re.S).group(1)
+    case = parse_case(DOMAIN_7x6 + block, "example.toml")
+    assert [b.name for b in case.bodies] == ["wire", "plate"]
+    assert case.bodies[1].reference_length == pytest.approx(3e-3)
+    assert case.bodies[0].reference_length == pytest.approx(1e-3)  # the diameter
+
+
+CIRCLE = '[[body]]\nshape = "circle"\ncenter = [3e-3, 3e-3]\nradius = 1e-3\nmodel = "diffuse"\n'
+
+
+@pytest.mark.parametrize("extra,key,words", [
+    (CIRCLE.replace("1e-3\nmodel", "3.5e-3\nmodel"), "body[0].center", "outside the domain"),
+    (CIRCLE.replace("[3e-3, 3e-3]", "[1e-3, 3e-3]"), "body[0].center", "touches side xmin"),
+    (CIRCLE + CIRCLE.replace("[3e-3, 3e-3]", "[4.5e-3, 3e-3]"), "body[1].center", "overlaps"),
+    (CIRCLE + 'velocity = [1.0, 0.0, 0.0]\n', "body[0].velocity", "at rest"),
+    (CIRCLE.replace('"diffuse"', '"periodic"'), "body[0].model", "is not one of"),
+    (CIRCLE + "accommodation = 0.5\n", "body[0].accommodation", "only used by model 'maxwell'"),
+    ('[[body]]\nshape = "polygon"\nvertices = [[1e-3, 1e-3], [2e-3, 2e-3], [2e-3, 1e-3], '
+     '[1e-3, 1.5e-3]]\nmodel = "diffuse"\n', "body[0].vertices", "cross"),
+    ('[[body]]\nshape = "polygon"\nvertices = [[1e-3, 1e-3], [2e-3, 1e-3], [2e-3, 2e-3]]\n'
+     'model = "diffuse"\npanels = 2\n', "body[0].panels", "one panel per edge"),
+    (CIRCLE.replace("shape", "shap"), "body[0].shape", "required key is missing"),
+])
+def test_body_errors_name_the_key(extra, key, words):
+    with pytest.raises(CaseError) as err:
+        parse_case(DOMAIN_7x6 + extra, "case.toml")
+    msg = str(err.value)
+    assert msg.startswith(f"case.toml: {key}: ") and words in msg and "\n" not in msg, msg
+
+
+def test_bodies_refused_in_1d_with_exit_status_2(tmp_path, capsys):
+    text = (ROOT / "cases" / "shuttle-gap-couette-transitional.toml").read_text() + CIRCLE
+    path = tmp_path / "c.toml"
+    path.write_text(text)
+    assert main(["check", str(path)]) == 2
+    line = one_error_line(capsys.readouterr().err)
+    assert f"{path}: body: bodies need a 2-D domain" in line
