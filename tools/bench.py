@@ -122,6 +122,22 @@ TARGETS = {
 }
 
 
+def _numerics_and_run(seed: int) -> str:
+    """The [numerics] and [run] tables of both bench cases: PPC particles per cell, a time step
+    of COLLISIONS_PER_STEP collision times, sampling every step."""
+    return f"""[numerics]
+particles_per_cell = {PPC!r}
+collision_time_fraction = {COLLISIONS_PER_STEP!r}
+transit_fraction = 10.0   # let the collision time set the step
+[run]
+seed = {seed}
+transient_steps = 0
+sample_steps = 1000000
+sample_interval = 1
+batches = 2
+"""
+
+
 def case_text(particles: float, seed: int = 1) -> str:
     """Case-file text of the bench Couette flow with about ``particles`` particles."""
     ar = get_species("Ar")
@@ -149,17 +165,7 @@ temperature = {TEMPERATURE!r}
 velocity = [0.0, {WALL_SPEED!r}, 0.0]
 [initial]
 profile = "linear"
-[numerics]
-particles_per_cell = {PPC!r}
-collision_time_fraction = {COLLISIONS_PER_STEP!r}
-transit_fraction = 10.0   # let the collision time set the step
-[run]
-seed = {seed}
-transient_steps = 0
-sample_steps = 1000000
-sample_interval = 1
-batches = 2
-"""
+{_numerics_and_run(seed)}"""
 
 
 def cavity_text(particles: float, seed: int = 1) -> str:
@@ -185,17 +191,7 @@ pressure = {PRESSURE!r}
 [domain]
 length = [{length!r}, {length!r}]
 cells = [{side}, {side}]
-{walls}[numerics]
-particles_per_cell = {PPC!r}
-collision_time_fraction = {COLLISIONS_PER_STEP!r}
-transit_fraction = 10.0   # let the collision time set the step
-[run]
-seed = {seed}
-transient_steps = 0
-sample_steps = 1000000
-sample_interval = 1
-batches = 2
-"""
+{walls}{_numerics_and_run(seed)}"""
 
 
 def make_sim(particles: float, text=case_text):
