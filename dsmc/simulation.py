@@ -1,7 +1,12 @@
 """The simulation: arrays built from a :class:`~dsmc.case.Case`, and the time loop.
 
 One step is: move (with wall interactions) -> sort by cell -> collide.
-Samples are taken alternately just before and just after the collisions.
+Samples are taken alternately just before and just after the collisions,
+inside the collision kernel: each cell's moments are added while its
+particles are in the cache, before or after that cell's collisions
+(:func:`dsmc.kernels.collide.collide_ntc`), which is the same as sampling
+the whole gas before or after the collision phase, since cells collide
+independently.  A step that does not sample skips it.
 Why: the particles fly with their post-collision velocities, so the fluxes
 that actually cross a plane during a flight are those of the state half-way
 through it.  A sample taken only after the collisions misses half a step of
@@ -47,12 +52,13 @@ from dsmc.gas import kinetic
 from dsmc.grid import UNIT_AREA, UNIT_DEPTH, Grid1D, Grid2D
 from dsmc.gas.shock import shock_states
 from dsmc.kernels.bodies import mark_inside
-from dsmc.kernels.collide import N_COLL_STATS, collide_ntc
+from dsmc.kernels.collide import (N_COLL_STATS, SAMPLE_AFTER, SAMPLE_BEFORE, SAMPLE_NONE,
+                                  collide_ntc)
 from dsmc.kernels.inject import (N_INJECT_ACC, fill_slab_1d, inject_1d, number_flux,
                                   relax_face_drift)
 from dsmc.kernels.move import N_WALL_ACC, inject_2d, move_1d, move_2d, n_blocks
 from dsmc.kernels.rng import fill_cells_1d, fill_cells_2d, fill_uniform, new_streams
-from dsmc.kernels.sample import N_MOMENTS, sample_cells
+from dsmc.kernels.sample import N_MOMENTS
 from dsmc.kernels.sort import SORT_CHUNKS, keys_1d, keys_2d
 from dsmc.kernels.surfaces import W_NCOL
 from dsmc.models import COLLISION_MODELS, open_row, wall_row
@@ -502,12 +508,17 @@ class Simulation:
                 self.mass, self.rot_dof, self.theta_vib, self.move_state, BLOCK_SIZE,
                 self._wall_acc, g.cells, p.key, self._hist)
 
-    def _collide(self):
+    def _collide(self, sample: int = SAMPLE_NONE, moments: np.ndarray | None = None):
+        """The collision phase; with ``sample`` (``SAMPLE_BEFORE`` / ``SAMPLE_AFTER``) each
+        cell's moments are added to ``moments`` (default: the current batch's) just before /
+        after its collisions."""
         p = self.particles
+        if moments is None:
+            moments = self._batch.moments
         collide_ntc(p.pos, p.v, p.sp, p.erot, p.vib, self.cell_start, self.volume, self.weight,
                     self.dt, self.sgmax, self.remainder, self.pair_c, self.pair_exp,
                     self.pair_alpha, self.mass, self.rot_half, self.theta_vib, self.p_rot,
-                    self.p_vib, self.rot_tstar, self.coll_state, 0, self._coll)
+                    self.p_vib, self.rot_tstar, self.coll_state, 0, self._coll, moments, sample)
 
     # ------------------------------------------------------------ open sides
 
@@ -660,10 +671,10 @@ class Simulation:
         if sample:
             self._since_sample += 1
             take = self._since_sample >= self._interval
-        if take and self._batch.samples % 2 == 0:
-            sample_cells(p.v, p.sp, p.erot, p.vib, self.cell_start,
-                         self._batch.moments)  # before collisions
-        self._collide()
+        when = SAMPLE_NONE  # samples alternate before and after the collisions
+        if take:
+            when = SAMPLE_BEFORE if self._batch.samples % 2 == 0 else SAMPLE_AFTER
+        self._collide(when)
         self.step_count += 1
         if sample:
             b = self._batch
@@ -674,9 +685,6 @@ class Simulation:
                 b.surfaces += self._surf_acc.sum(axis=0)
             b.steps += 1
             if take:
-                if b.samples % 2 == 1:
-                    sample_cells(p.v, p.sp, p.erot, p.vib, self.cell_start,
-                                 b.moments)  # after collisions
                 b.samples += 1
                 self._since_sample = 0
         if self.shock is not None:

@@ -109,6 +109,12 @@ Temperature-dependent ``Z_rot`` (Parker 1959): the probability is
 re-evaluated in every cell and step from the cell's translational
 temperature, ``P = (1 + zeta_r/zeta_t) / Z_rot(T_cell)``.  Within a step it
 is constant, so each collision still satisfies detailed balance.
+
+Sampling: on sampling steps the kernel also adds each cell's raw moments
+for the fields (:func:`dsmc.kernels.sample.add_cell_moments`) just before or
+just after that cell's collisions (alternately, see :mod:`dsmc.simulation`),
+so a cell's particles are read from memory once for both; this replaced a
+separate sampling pass over all particles.
 """
 
 from __future__ import annotations
@@ -119,8 +125,11 @@ import numba as nb
 import numpy as np
 
 from dsmc.kernels.rng import uniform, uniform_open0
+from dsmc.kernels.sample import add_cell_moments
 
 N_COLL_STATS = 2  # accepted collisions, summed |x_i - x_j|
+# collide_ntc's ``sample``: no sampling, moments before / after each cell's collisions
+SAMPLE_NONE, SAMPLE_BEFORE, SAMPLE_AFTER = 0, 1, 2
 # bound on the relative error of (g^2)^e evaluated in single precision for
 # 1e-30 <= g^2 <= 1e38 and 0 <= e <= 1: rounding g^2 (2^-24 e), rounding e (2^-24 e |ln g^2|,
 # at most 5.3e-6) and the float pow (about 1 ulp, 2^-23); with a factor 10 to spare.
@@ -219,8 +228,9 @@ def _other(lo, m, i, state, s):
 @nb.njit(parallel=True, cache=True)
 def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, remainder,
                 pair_c, pair_exp, pair_alpha, mass, rot_half, theta_vib, pair_prot, pair_pvib,
-                rot_tstar, state, stream0, stats):
-    """Collide the particles of every cell for one step.
+                rot_tstar, state, stream0, stats, moments, sample):
+    """Collide the particles of every cell for one step; sample each cell's moments
+    just before or just after its collisions.
 
     ``pos`` (n, d) positions (only used for the collision-separation
     statistic), ``v`` (n, 3) velocities, ``sp`` species indices, ``erot``
@@ -239,6 +249,15 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
     (:func:`parker_factor`); where the pair's probabilities would exceed 1 in
     sum, the rotational ones are scaled down to fill the remainder.
     ``stats[c]`` gains the accepted collisions and the summed pair separations.
+
+    ``sample``: ``SAMPLE_BEFORE`` / ``SAMPLE_AFTER`` add every cell's raw
+    moments to ``moments`` (n_cells, n_species, 15) before / after its
+    collisions, with :func:`dsmc.kernels.sample.add_cell_moments`, while the
+    cell's particles are in the cache; ``SAMPLE_NONE`` leaves ``moments``
+    alone and costs one test per cell.  Cells are independent, so sampling a
+    cell after its collisions is sampling the whole gas after the collision
+    phase: the moments are bit-identical to :func:`dsmc.kernels.sample.sample_cells`
+    called before or after this kernel.
     """
     n_cells = cell_start.size - 1
     dim = pos.shape[1]
@@ -250,7 +269,11 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
     for c in nb.prange(n_cells):
         s0 = cell_start[c]
         nc = cell_start[c + 1] - s0
-        if nc < 2 or volume[c] <= 0.0:
+        if sample == SAMPLE_BEFORE:
+            add_cell_moments(v, sp, erot, vib, s0, s0 + nc, moments, c)
+        if nc < 2 or volume[c] <= 0.0:  # nothing collides
+            if sample == SAMPLE_AFTER:
+                add_cell_moments(v, sp, erot, vib, s0, s0 + nc, moments, c)
             continue
         fac = np.ones(ns if variable else 1)  # Z_inf / Z(T_cell) per species
         if variable:
@@ -349,3 +372,5 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
         sgmax[c] = sgm
         stats[c, 0] += n_col
         stats[c, 1] += sep
+        if sample == SAMPLE_AFTER:
+            add_cell_moments(v, sp, erot, vib, s0, s0 + nc, moments, c)
