@@ -40,7 +40,7 @@ def test_bench_runs_and_writes_json(tmp_path):
     main = res["main"]
     assert main["particles"] > 0
     t1 = main["threads"]["1"]
-    assert set(t1["phase_seconds"]) == {"move", "sort", "sample", "collide", "walls"}
+    assert set(t1["phase_seconds"]) == {"move", "sort", "collide_sample", "walls"}
     assert t1["step_seconds"] > 0
     assert res["bytes_per_particle_step"]["total"] > 0
     assert [r["particles"] for r in res["scaling"]] == sorted(r["particles"] for r in res["scaling"])

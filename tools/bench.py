@@ -16,8 +16,9 @@ with each other on a noisy machine:
 
 * the phases of :meth:`dsmc.simulation.Simulation.step`, timed one by one by
   calling the same methods in the same order (move with cell keys and
-  histogram, sort scatter, sample, collide, wall sums), and the whole
-  ``step`` call; each as
+  histogram, sort scatter, collide with the cell moments sampled inside it
+  alternately before and after each cell's collisions, wall sums), and the
+  whole ``step`` call; each as
   particle-steps per second (median over steps).  Thread counts take turns
   in chunks of about 0.2 s; a chunk during which other processes kept more
   than ``--max-others`` cores busy (from /proc/stat) is dropped and re-run;
@@ -49,14 +50,15 @@ read or written counts its size once (the triad 24 B per element) and
 write-allocate traffic is counted for neither.  ``B`` per phase
 (:func:`bytes_per_particle_step`; pos 8 B, v 24 B, sp 1 B, key 4 B):
 
-    move           45   read pos, v, sp; write pos and the cell key (the
-                        per-chunk histogram stays in cache)
-    sort           70   scatter: read key, pos, v, sp; write pos, v, sp
-    sample         25   read v, sp
-    collide     25+32c  read v, sp; the fraction c of particles that collide
-                        writes v and reads pos (separation statistic)
+    move            45   read pos, v, sp; write pos and the cell key (the
+                         per-chunk histogram stays in cache)
+    sort            70   scatter: read key, pos, v, sp; write pos, v, sp
+    collide_sample 25+32c  read v, sp once for the moments and the
+                         collisions (a cell stays in cache between the two);
+                         the fraction c of particles that collide writes v
+                         and reads pos (separation statistic)
 
-about 171 B per particle-step at c = 0.2 (per-cell arrays, 40 particles per
+about 146 B per particle-step at c = 0.2 (per-cell arrays, 40 particles per
 cell, are left out).
 
 It asserts nothing: targets are printed next to the figures, and ``--json``
@@ -100,7 +102,7 @@ from dsmc.case import parse_case  # noqa: E402
 from dsmc.gas import kinetic  # noqa: E402
 from dsmc.gas.species import get_species  # noqa: E402
 from dsmc.kernels.move import n_blocks  # noqa: E402
-from dsmc.kernels.sample import sample_cells  # noqa: E402
+from dsmc.kernels.collide import SAMPLE_AFTER, SAMPLE_BEFORE  # noqa: E402
 
 # ----------------------------------------------------------------------------- the case
 
@@ -215,8 +217,8 @@ def bytes_per_particle_step(coll_per_particle: float = COLLISIONS_PER_STEP) -> d
     return {
         "move": 8 + 24 + 1 + 8 + 4,  # read pos, v (one row), sp; write pos, key
         "sort": 4 + 2 * (8 + 24 + 1),  # scatter: read key, pos, v, sp; write pos, v, sp
-        "sample": 24 + 1,  # read v, sp
-        "collide": 24 + 1 + c * (24 + 8),  # read v, sp of the cell; write v, read pos of colliders
+        # read v, sp of the cell (for the moments and the partners); write v, read pos of colliders
+        "collide_sample": 24 + 1 + c * (24 + 8),
         "walls": 0.0,
     }
 
@@ -334,12 +336,15 @@ class Load:
 
 # ----------------------------------------------------------------------------- phases
 
-PHASES = ("move", "sort", "sample", "collide", "walls")
+PHASES = ("move", "sort", "collide_sample", "walls")
+PHASE_LABELS = {"move": "move", "sort": "sort", "collide_sample": "coll+s", "walls": "walls"}
 
 
 def step_phases(sim, moments, walls, times):
-    """One step, as Simulation.step(sample=True) does it, with each phase timed."""
+    """One step, as Simulation.step(sample=True) does it, with each phase timed; the moments
+    go to ``moments``, before the collisions on every other call (counted by ``times``)."""
     p = sim.particles
+    when = SAMPLE_BEFORE if len(times["move"]) % 2 == 0 else SAMPLE_AFTER
     bs = simmod.BLOCK_SIZE
     pc = time.perf_counter
     t0 = pc()
@@ -347,14 +352,12 @@ def step_phases(sim, moments, walls, times):
     t1 = pc()
     sim._sort(counted=True)
     t2 = pc()
-    sample_cells(p.v, p.sp, p.erot, p.vib, sim.cell_start, moments)
+    sim._collide(when, moments)
     t3 = pc()
-    sim._collide()
-    t4 = pc()
     walls += sim._wall_acc[: n_blocks(p.n, bs)].sum(axis=0)
-    t5 = pc()
+    t4 = pc()
     sim.step_count += 1
-    for name, dt in zip(PHASES, (t1 - t0, t2 - t1, t3 - t2, t4 - t3, t5 - t4)):
+    for name, dt in zip(PHASES, (t1 - t0, t2 - t1, t3 - t2, t4 - t3)):
         times[name].append(dt)
 
 
@@ -698,7 +701,7 @@ def report(res: dict) -> str:
         lines.append("scaling (ns per particle-step, whole step):")
         lines.append(f"{'particles':>10s} {'cells':>7s} {'steps':>5s} {'coll/p':>6s}"
                      + "".join(f" {f'{t} thr':>7s}" for t in threads)
-                     + "   phases at 1 thr: " + " ".join(f"{k[:6]:>6s}" for k in PHASES))
+                     + "   phases at 1 thr: " + " ".join(f"{PHASE_LABELS[k]:>6s}" for k in PHASES))
         for row in res["scaling"]:
             line = (f"{row['particles']:10d} {row['cells']:7d} {row['steps']:5d} "
                     f"{row['collisions_per_particle_per_step']:6.3f}")
