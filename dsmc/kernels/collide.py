@@ -132,6 +132,7 @@ import math
 import numba as nb
 import numpy as np
 
+from dsmc.kernels.prefetch import prefetch
 from dsmc.kernels.rng import uniform, uniform_open0
 from dsmc.kernels.sample import add_cell_moments
 
@@ -233,6 +234,23 @@ def _other(lo, m, i, state, s):
     return j + 1 if j >= i else j
 
 
+# cells ahead of the one being collided whose particle data is prefetched: far enough for the
+# lines to arrive (a cell takes a few hundred ns), near enough to stay in the cache
+PREFETCH_CELLS = 2
+
+
+@nb.njit(inline="always")
+def _prefetch_cell(pos, v, sp, lo, hi):
+    """Ask for the cache lines of particles ``lo .. hi-1`` (velocities, positions, species)."""
+    for k in range(3 * lo, 3 * hi, 8):
+        prefetch(v, k)
+    d = pos.shape[1]
+    for k in range(d * lo, d * hi, 8):
+        prefetch(pos, k)
+    for k in range(lo, hi, 64):
+        prefetch(sp, k)
+
+
 @nb.njit(parallel=True, cache=True)
 def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, remainder,
                 pair_c, pair_exp, pair_alpha, mass, rot_half, theta_vib, pair_prot, pair_pvib,
@@ -275,6 +293,9 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
         if rot_tstar[a] > 0.0:
             variable = True
     for c in nb.prange(n_cells):
+        if c + PREFETCH_CELLS < n_cells:
+            _prefetch_cell(pos, v, sp, cell_start[c + PREFETCH_CELLS],
+                           cell_start[c + PREFETCH_CELLS + 1])
         s0 = cell_start[c]
         nc = cell_start[c + 1] - s0
         if sample == SAMPLE_BEFORE:
@@ -283,12 +304,9 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
             if sample == SAMPLE_AFTER:
                 add_cell_moments(v, sp, erot, vib, s0, s0 + nc, moments, c)
             continue
-        fac = np.ones(ns if variable else 1)  # Z_inf / Z(T_cell) per species
+        T = 0.0
         if variable:
             T = cell_temperature(v, sp, mass, s0, s0 + nc)
-            for a in range(ns):
-                if rot_tstar[a] > 0.0:
-                    fac[a] = parker_factor(T, rot_tstar[a])
         st = stream0 + c
         sgm = sgmax[c]
         expected = 0.5 * nc * (nc - 1) * weight * sgm * dt / volume[c] + remainder[c]
@@ -335,8 +353,11 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
             pri = pair_prot[a, b]
             prj = pair_prot[b, a]
             if variable:
-                pri *= fac[a]
-                prj *= fac[b]
+                # Z_inf / Z(T_cell) of each species with a temperature-dependent Z_rot
+                if rot_tstar[a] > 0.0:
+                    pri *= parker_factor(T, rot_tstar[a])
+                if rot_tstar[b] > 0.0:
+                    prj *= parker_factor(T, rot_tstar[b])
             if pvi + pvj + pri + prj > 1.0:
                 cut = max(0.0, 1.0 - pvi - pvj) / (pri + prj)
                 pri *= cut
