@@ -114,15 +114,17 @@ Sampling: on sampling steps the kernel also adds each cell's raw moments
 for the fields (:func:`dsmc.kernels.sample.add_cell_moments`) just before or
 just after that cell's collisions (alternately, see :mod:`dsmc.simulation`),
 so a cell's particles are read from memory once for both; this replaced a
-separate sampling pass over all particles.  Out of the cache it also makes
-the collisions faster, probably because the partners are read in random
-order within a cell, which a hardware prefetcher does not follow, while the
-sampling reads the cells in order.  Measured on the bench case
-(tools/bench.py, one thread, ns per particle-step): with 1e6 and 1e7
-particles the collisions alone took 13.6-15.3, with the sampling before
-them 8.6-8.8, after them 9.1-9.9; with 1e5 particles, in the cache, 7.6
-alone and 8.6-8.9 with the sampling.  Steps that do not sample do not get
-this.
+separate sampling pass over all particles.
+
+Prefetch: the partners are picked in random order within a cell, which the
+hardware prefetchers do not follow, so once the particle arrays outgrow the
+cache every first touch of a cache line waited on main memory.  The kernel
+asks for the lines of the cell ``PREFETCH_CELLS`` ahead
+(:mod:`dsmc.kernels.prefetch`) while it works on the current one.  Measured
+on the bench case (tools/bench.py, one thread, 1e6 particles, ns per
+particle-step): collisions alone 19.6 -> 8.3; the in-order read of a
+sampling step had hidden part of the wait (collisions with sampling 13.6-15.3
+-> 8.6-9.9 before the prefetch), the prefetch removes it on every step.
 """
 
 from __future__ import annotations
@@ -240,8 +242,9 @@ PREFETCH_CELLS = 2
 
 
 @nb.njit(inline="always")
-def _prefetch_cell(pos, v, sp, lo, hi):
-    """Ask for the cache lines of particles ``lo .. hi-1`` (velocities, positions, species)."""
+def _prefetch_cell(pos, v, sp, erot, vib, lo, hi):
+    """Ask for the cache lines of particles ``lo .. hi-1`` (velocities, positions, species and,
+    for molecular gases, internal energies)."""
     for k in range(3 * lo, 3 * hi, 8):
         prefetch(v, k)
     d = pos.shape[1]
@@ -249,6 +252,11 @@ def _prefetch_cell(pos, v, sp, lo, hi):
         prefetch(pos, k)
     for k in range(lo, hi, 64):
         prefetch(sp, k)
+    if erot.size > 0:
+        for k in range(lo, hi, 8):
+            prefetch(erot, k)
+        for k in range(lo, hi, 16):
+            prefetch(vib, k)
 
 
 @nb.njit(parallel=True, cache=True)
@@ -294,7 +302,7 @@ def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, re
             variable = True
     for c in nb.prange(n_cells):
         if c + PREFETCH_CELLS < n_cells:
-            _prefetch_cell(pos, v, sp, cell_start[c + PREFETCH_CELLS],
+            _prefetch_cell(pos, v, sp, erot, vib, cell_start[c + PREFETCH_CELLS],
                            cell_start[c + PREFETCH_CELLS + 1])
         s0 = cell_start[c]
         nc = cell_start[c + 1] - s0
