@@ -38,17 +38,9 @@ from dsmc.io.results import write_results
 from dsmc.io.xdmf import write_xdmf
 from dsmc.kernels.bodies import mark_inside
 from dsmc.simulation import Simulation, result_tree
+from tests.test_planar_2d import _one_thread  # noqa: F401 (one kernel thread, autouse)
 
 K_B = constants.k
-M_AR = 39.948 * constants.atomic_mass  # argon, kg (the species table's value is checked elsewhere)
-
-
-@pytest.fixture(autouse=True, scope="module")
-def _one_thread():
-    n = numba.get_num_threads()
-    numba.set_num_threads(1)
-    yield
-    numba.set_num_threads(n)
 
 
 def case_text(bodies: str, *, sides=("inflow",) * 4, length=(0.02, 0.02), cells=(24, 24),

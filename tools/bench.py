@@ -151,21 +151,27 @@ batches = 2
 """
 
 
-def case_text(particles: float, seed: int = 1) -> str:
-    """Case-file text of the bench Couette flow with about ``particles`` particles."""
-    ar = get_species("Ar")
+def _cell_size() -> float:
+    """The bench cell: DX_OVER_MFP mean free paths of the argon gas (VHS)."""
     n = PRESSURE / (kinetic.K_B * TEMPERATURE)
-    mfp = float(kinetic.mean_free_path(ar, TEMPERATURE, n, "vhs"))
-    cells = max(2, int(round(particles / PPC)))
-    length = cells * DX_OVER_MFP * mfp
-    return f"""\
-title = "bench: argon Couette, {cells} cells"
-[gas]
+    return DX_OVER_MFP * float(kinetic.mean_free_path(get_species("Ar"), TEMPERATURE, n, "vhs"))
+
+
+_GAS = f"""[gas]
 species = "Ar"
 collision_model = "vhs"
 temperature = {TEMPERATURE!r}
 pressure = {PRESSURE!r}
-[domain]
+"""
+
+
+def case_text(particles: float, seed: int = 1) -> str:
+    """Case-file text of the bench Couette flow with about ``particles`` particles."""
+    cells = max(2, int(round(particles / PPC)))
+    length = cells * _cell_size()
+    return f"""\
+title = "bench: argon Couette, {cells} cells"
+{_GAS}[domain]
 length = {length!r}
 cells = {cells}
 [boundary.xmin]
@@ -185,23 +191,15 @@ def cavity_text(particles: float, seed: int = 1) -> str:
     """Case-file text of the 2-D bench: a square lid-driven argon cavity (diffuse walls, the
     ymax lid sliding at WALL_SPEED) of about ``particles`` particles, with the cells, particles
     per cell and time step of the 1-D bench case."""
-    ar = get_species("Ar")
-    n = PRESSURE / (kinetic.K_B * TEMPERATURE)
-    mfp = float(kinetic.mean_free_path(ar, TEMPERATURE, n, "vhs"))
     side = max(2, int(round(math.sqrt(particles / PPC))))
-    length = side * DX_OVER_MFP * mfp
+    length = side * _cell_size()
     walls = ""
     for name in ("xmin", "xmax", "ymin", "ymax"):
         lid = f"velocity = [{WALL_SPEED!r}, 0.0, 0.0]\n" if name == "ymax" else ""
         walls += f'[boundary.{name}]\nmodel = "diffuse"\ntemperature = {TEMPERATURE!r}\n{lid}'
     return f"""\
 title = "bench: argon lid-driven cavity, {side} x {side} cells"
-[gas]
-species = "Ar"
-collision_model = "vhs"
-temperature = {TEMPERATURE!r}
-pressure = {PRESSURE!r}
-[domain]
+{_GAS}[domain]
 length = [{length!r}, {length!r}]
 cells = [{side}, {side}]
 {walls}{_numerics_and_run(seed)}"""
