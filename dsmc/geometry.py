@@ -278,22 +278,6 @@ def contains(tables: BodyTables, xy: np.ndarray) -> np.ndarray:
 # ------------------------------------------------------------------------------ checks
 
 
-def _segments_cross(a, b, c, d) -> bool:
-    """Whether the closed segments ``ab`` and ``cd`` share a point."""
-    def orient(p, q, r):
-        v = (q[0] - p[0]) * (r[1] - p[1]) - (q[1] - p[1]) * (r[0] - p[0])
-        return 0 if v == 0 else (1 if v > 0 else -1)
-
-    def on(p, q, r):  # r on segment pq, given collinear
-        return min(p[0], q[0]) <= r[0] <= max(p[0], q[0]) and min(p[1], q[1]) <= r[1] <= max(p[1], q[1])
-
-    o1, o2, o3, o4 = orient(a, b, c), orient(a, b, d), orient(c, d, a), orient(c, d, b)
-    if o1 != o2 and o3 != o4:
-        return True
-    return ((o1 == 0 and on(a, b, c)) or (o2 == 0 and on(a, b, d)) or (o3 == 0 and on(c, d, a))
-            or (o4 == 0 and on(c, d, b)))
-
-
 def polygon_problem(points) -> str | None:
     """What is wrong with a polygon's vertex list (``None`` when it is a simple polygon)."""
     p = np.asarray(points, dtype=float).reshape(-1, 2)
@@ -308,12 +292,9 @@ def polygon_problem(points) -> str | None:
     scale = max(np.ptp(p[:, 0]), np.ptp(p[:, 1]))
     if abs(signed_area(p)) <= 1e-12 * scale * scale:
         return "the polygon has no area"
-    for i in range(k):
-        for j in range(i + 1, k):
-            if j == i + 1 or (i == 0 and j == k - 1):
-                continue  # neighbouring edges share a vertex
-            if _segments_cross(p[i], p[(i + 1) % k], p[j], p[(j + 1) % k]):
-                return f"edges {i} and {j} cross: the polygon must not intersect itself"
+    i, j = kb.first_crossing(np.ascontiguousarray(p[:, 0]), np.ascontiguousarray(p[:, 1]))
+    if i >= 0:
+        return f"edges {i} and {j} cross: the polygon must not intersect itself"
     return None
 
 
@@ -346,7 +327,8 @@ def shapes_overlap(a: Shape, b: Shape) -> bool:
         if any(_segment_distance(c, p, q) <= b.radius for p, q in _edges(a)):
             return True
         return _point_in(a, b.center) or _point_in(b, a.vertices[0])
-    if any(_segments_cross(p, q, r, s) for p, q in _edges(a) for r, s in _edges(b)):
+    pa, pb = a.points, b.points
+    if kb.outlines_meet(*(np.ascontiguousarray(c) for c in (pa[:, 0], pa[:, 1], pb[:, 0], pb[:, 1]))):
         return True
     return _point_in(a, b.vertices[0]) or _point_in(b, a.vertices[0])
 

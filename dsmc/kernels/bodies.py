@@ -211,6 +211,68 @@ def mark_inside(pos, n, elem, body_box, body_elem, out):
         out[i] = inside_bodies(pos[i, 0], pos[i, 1], elem, body_box, body_elem) >= 0
 
 
+# ----------------------------------------------------------------------------- shape checks
+
+
+@nb.njit(inline="always")
+def _orient(ax, ay, bx, by, cx, cy):
+    v = (bx - ax) * (cy - ay) - (by - ay) * (cx - ax)
+    return 0 if v == 0.0 else (1 if v > 0.0 else -1)
+
+
+@nb.njit(inline="always")
+def _on_segment(ax, ay, bx, by, cx, cy):
+    """Whether ``c``, collinear with ``ab``, lies on the closed segment ``ab``."""
+    return min(ax, bx) <= cx <= max(ax, bx) and min(ay, by) <= cy <= max(ay, by)
+
+
+@nb.njit(inline="always")
+def segments_meet(ax, ay, bx, by, cx, cy, dx, dy):
+    """Whether the closed segments ``ab`` and ``cd`` share a point (orientation tests,
+    collinear touching included)."""
+    o1 = _orient(ax, ay, bx, by, cx, cy)
+    o2 = _orient(ax, ay, bx, by, dx, dy)
+    o3 = _orient(cx, cy, dx, dy, ax, ay)
+    o4 = _orient(cx, cy, dx, dy, bx, by)
+    if o1 != o2 and o3 != o4:
+        return True
+    return ((o1 == 0 and _on_segment(ax, ay, bx, by, cx, cy))
+            or (o2 == 0 and _on_segment(ax, ay, bx, by, dx, dy))
+            or (o3 == 0 and _on_segment(cx, cy, dx, dy, ax, ay))
+            or (o4 == 0 and _on_segment(cx, cy, dx, dy, bx, by)))
+
+
+@nb.njit(cache=True)
+def first_crossing(px, py):
+    """The first pair of non-neighbouring edges ``(i, j)`` of the closed polygon ``px, py``
+    that meet, or ``(-1, -1)`` for a simple polygon (edge ``i`` runs from vertex ``i`` to
+    ``i + 1``)."""
+    k = px.size
+    for i in range(k):
+        i1 = (i + 1) % k
+        for j in range(i + 2, k):
+            if i == 0 and j == k - 1:
+                continue  # neighbours through vertex 0
+            j1 = (j + 1) % k
+            if segments_meet(px[i], py[i], px[i1], py[i1], px[j], py[j], px[j1], py[j1]):
+                return i, j
+    return -1, -1
+
+
+@nb.njit(cache=True)
+def outlines_meet(ax, ay, bx, by):
+    """Whether an edge of the closed polygon ``ax, ay`` meets an edge of ``bx, by``."""
+    ka = ax.size
+    kb_ = bx.size
+    for i in range(ka):
+        i1 = (i + 1) % ka
+        for j in range(kb_):
+            j1 = (j + 1) % kb_
+            if segments_meet(ax[i], ay[i], ax[i1], ay[i1], bx[j], by[j], bx[j1], by[j1]):
+                return True
+    return False
+
+
 # ----------------------------------------------------------------------------- cut areas
 
 
