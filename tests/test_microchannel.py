@@ -33,7 +33,6 @@ import pytest
 from scipy import constants
 
 from dsmc.analysis import free_molecular as fm
-from dsmc.analysis import limits
 from dsmc.case import parse_case
 from dsmc.gas import kinetic
 from dsmc.gas.species import get_species
