@@ -46,7 +46,7 @@ from dsmc.errors import UserError
 # --- per-array byte counts (float64 = 8, int64 = 8, int32 = 4, uint8 = 1)
 CAPACITY_FACTOR = 1.2  # Simulation allocates int(1.2 * particles) + 16 slots
 CAPACITY_EXTRA = 16
-BLOCK_SIZE = 4096  # particles per move stream (dsmc.simulation.BLOCK_SIZE)
+BLOCK_SIZE = 1024  # particles per move stream (dsmc.simulation.BLOCK_SIZE)
 # pos (n, 1), v (n, 3), sp (n,) and their scratch copies, int32 cell key: 70
 PARTICLE_ARRAYS = 2 * (8 * 1 + 8 * 3 + 1) + 4
 INTERNAL_ARRAYS = 2 * (8 + 4)  # erot (float64), vib (int32) and scratch: gases with internal modes

@@ -65,7 +65,7 @@ from dsmc.models import COLLISION_MODELS, open_row, wall_row
 from dsmc.particles import Particles
 from dsmc.steady import relative_errors, steady, target_reached
 
-BLOCK_SIZE = 4096  # particles per random stream in the move kernel
+BLOCK_SIZE = 1024  # particles per random stream in the move kernel
 RELAX_STEPS = 500.0  # steps over which a 'pressure' side's reservoir drift follows the gas
 # distance from a body surface, in cell sizes, at which a re-emitted particle is put: far above
 # the round-off of the hit point (1e-16 of the coordinates), far below any physical length

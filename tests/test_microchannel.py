@@ -209,7 +209,8 @@ def test_slip_flow_rate_in_the_channel_approaches_first_order_slip():
         ratio, ell = slip_ratio(sim, 1.25)
         r, r_err = ratio.mean(), ratio.std(ddof=1) / math.sqrt(len(ratio))
         print(f"slip channel, ell/H = {ell:.4f}: DSMC / slip flow = {r:.4f} +- {r_err:.4f}")
-        assert r_err < 0.01
+        # power of the checks below: the 5 % band is at least 2.5 standard errors wide
+        assert r_err < 0.02
         devs.append((r - 1.0, r_err))
     (d2, e2), (d1, e1) = devs
     assert abs(d1) < 0.05

@@ -151,7 +151,7 @@ def test_keys_2d_flat_cell_index():
 
 
 def test_move_2d_keys_and_histogram_feed_the_counted_sort():
-    """Over several histogram chunks (80 000 particles, 20 blocks): the keys move_2d writes
+    """Over several histogram chunks (80 000 particles, 79 blocks): the keys move_2d writes
     are those of keys_2d, its per-chunk histogram is that of sort.histogram, and the counted
     sort leaves every particle in its cell."""
     from dsmc.kernels.sort import chunk_layout, histogram
@@ -159,7 +159,7 @@ def test_move_2d_keys_and_histogram_feed_the_counted_sort():
 
     sim = Simulation(parse_case(box_case(CAVITY, cells=(20, 20), ppc=200)))
     p, g = sim.particles, sim.grid
-    n_chunks = chunk_layout(p.n, BLOCK_SIZE)[0]
+    n_chunks = chunk_layout(p.n, BLOCK_SIZE, g.cells + 1)[0]
     assert n_chunks >= 2
     sim._move()
     moved = sim._hist[:n_chunks].copy()
@@ -441,7 +441,7 @@ def _cavity(threads, seed=9, walls=CAVITY, ppc=100):
     old = numba.get_num_threads()
     numba.set_num_threads(threads)
     try:
-        # 8000 particles (two random-stream blocks), a long time step: many wall hits
+        # 8000 particles (eight random-stream blocks), a long time step: many wall hits
         sim = Simulation(parse_case(box_case(walls, cells=(10, 8), ppc=ppc, transient=20,
                                              samples=40, batches=2, seed=seed)))
         sim.run()
@@ -482,8 +482,9 @@ def test_2d_thread_count_does_not_change_the_result(walls):
     a, b = _cavity(1, walls=walls, ppc=ppc), _cavity(2, walls=walls, ppc=ppc)
     if walls is OPEN_BOX:
         from dsmc.kernels.sort import chunk_layout
+        from dsmc.simulation import BLOCK_SIZE
 
-        assert chunk_layout(a.n_particles, 4096)[0] >= 2
+        assert chunk_layout(a.n_particles, BLOCK_SIZE, a.grid.cells + 1)[0] >= 2
         assert a.open_side_fluxes()[2]["outflow_number_flux"][0] > 0
     _same(a, b)
 

@@ -34,12 +34,22 @@ def test_scatter_is_the_stable_sort(n, n_keys, internal):
     assert np.array_equal(start, np.concatenate([[0], np.cumsum(np.bincount(key, minlength=n_keys))]))
 
 
-@pytest.mark.parametrize("n", [0, 1, 4096, 4097, 32768 * 3 + 5, 10**6])
-def test_chunks_are_whole_blocks_covering_all_particles(n):
-    n_chunks, size = chunk_layout(n, BLOCK_SIZE)
+@pytest.mark.parametrize("n_keys", [1, 251, 10**6])
+@pytest.mark.parametrize("n", [0, 1, BLOCK_SIZE, BLOCK_SIZE + 1, 32768 * 3 + 5, 10**6])
+def test_chunks_are_whole_blocks_covering_all_particles(n, n_keys):
+    n_chunks, size = chunk_layout(n, BLOCK_SIZE, n_keys)
     assert 1 <= n_chunks <= SORT_CHUNKS
     assert size % BLOCK_SIZE == 0
     assert (n_chunks - 1) * size < max(n, 1) <= n_chunks * size
+
+
+def test_chunk_count():
+    """Two blocks are two chunks (both threads move a small run); a sparse run (fewer
+    particles than keys) gets two chunks, not SORT_CHUNKS histogram rows."""
+    assert chunk_layout(2 * BLOCK_SIZE, BLOCK_SIZE, 10)[0] == 2
+    assert chunk_layout(10**6, BLOCK_SIZE, 25_001)[0] == SORT_CHUNKS
+    assert chunk_layout(10**6, BLOCK_SIZE, 10**6 + 1)[0] == 2
+    assert chunk_layout(10**6, BLOCK_SIZE, 10**5)[0] == 10
 
 
 def test_move_kernel_keys_and_histogram_match_the_sort():
@@ -51,8 +61,8 @@ def test_move_kernel_keys_and_histogram_match_the_sort():
     hist = sim._hist.copy()
     keys_1d(p.pos, p.n, sim.grid.length, sim.grid.cells, p.key)
     assert np.array_equal(key, p.key[: p.n])
-    histogram(p.key, p.n, sim.grid.cells, BLOCK_SIZE, sim._hist)
-    n_chunks, _ = chunk_layout(p.n, BLOCK_SIZE)
+    histogram(p.key, p.n, sim.grid.cells + 1, BLOCK_SIZE, sim._hist)
+    n_chunks, _ = chunk_layout(p.n, BLOCK_SIZE, sim.grid.cells + 1)
     assert np.array_equal(hist[:n_chunks], sim._hist[:n_chunks])
 
 

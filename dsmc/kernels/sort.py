@@ -12,9 +12,10 @@ gathers took on the benchmark case; see ``tools/bench.py``).  The move
 kernel computes the keys and the histogram as it moves the particles, so
 after a step only the scatter is left.
 
-Chunks are runs of whole 4096-particle blocks (the move kernel's random
-stream blocks), at most ``SORT_CHUNKS`` of them, their number depending only
-on the particle count.  A stable sort has one result, so the order does not
+Chunks are runs of whole blocks (the move kernel's random-stream blocks of
+``dsmc.simulation.BLOCK_SIZE`` particles), at most ``SORT_CHUNKS`` of them,
+their number depending only on the particle and key counts
+(:func:`chunk_layout`).  A stable sort has one result, so the order does not
 depend on the chunking or on the thread count.
 """
 
@@ -23,16 +24,24 @@ from __future__ import annotations
 import numba as nb
 
 SORT_CHUNKS = 16  # most histogram chunks
-MIN_CHUNK_BLOCKS = 8  # fewest particle blocks per chunk
 
 
 @nb.njit(cache=True)
-def chunk_layout(n, block_size):
+def chunk_layout(n, block_size, n_keys):
     """``(n_chunks, chunk_size)``: chunk ``ch`` holds particles
     ``ch * chunk_size .. min(n, (ch + 1) * chunk_size)``; chunk_size is a
-    multiple of ``block_size``."""
+    multiple of ``block_size``.
+
+    As many chunks as there are blocks, up to ``SORT_CHUNKS``, so that two
+    threads share even a run of a few blocks (one-block chunks took the
+    two-thread step at 1e4 particles of the benchmark case from 19-20 to
+    13.6-14.6 ns per particle-step; ``tools/bench.py --scaling``).  Each chunk
+    costs a histogram row of ``n_keys`` counters to clear and to add up, so a
+    sparse run (few particles per key) gets no more than ``n // n_keys``
+    chunks, and at least 2: the histogram work stays below the particle work.
+    """
     n_blocks = (n + block_size - 1) // block_size
-    n_chunks = min(SORT_CHUNKS, max(1, n_blocks // MIN_CHUNK_BLOCKS))
+    n_chunks = max(1, min(SORT_CHUNKS, n_blocks, max(2, n // max(1, n_keys))))
     per_chunk = max(1, (n_blocks + n_chunks - 1) // n_chunks)
     n_chunks = max(1, (n_blocks + per_chunk - 1) // per_chunk)
     return n_chunks, per_chunk * block_size
@@ -82,7 +91,7 @@ def keys_2d(pos, n, lx, ly, nx, ny, key):
 def histogram(key, n, n_keys, block_size, hist):
     """``hist[ch, k]``: particles of chunk ``ch`` with key ``k`` (rows beyond
     the chunks in use are left alone)."""
-    n_chunks, size = chunk_layout(n, block_size)
+    n_chunks, size = chunk_layout(n, block_size, n_keys)
     for ch in nb.prange(n_chunks):
         row = hist[ch]
         for k in range(n_keys):
@@ -101,7 +110,7 @@ def scatter_sorted(key, n, n_keys, block_size, hist, start, pos, v, sp, erot, vi
     sorted position of each key.  ``erot``/``vib`` (internal energies) are
     moved too unless they are empty (monatomic gases).
     """
-    n_chunks, size = chunk_layout(n, block_size)
+    n_chunks, size = chunk_layout(n, block_size, n_keys)
     start[0] = 0
     for k in range(n_keys):
         total = 0
