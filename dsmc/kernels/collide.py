@@ -125,6 +125,15 @@ on the bench case (tools/bench.py, one thread, 1e6 particles, ns per
 particle-step): collisions alone 19.6 -> 8.3; the in-order read of a
 sampling step had hidden part of the wait (collisions with sampling 13.6-15.3
 -> 8.6-9.9 before the prefetch), the prefetch removes it on every step.
+
+Fused multiply-add: the kernel compiles with numba's ``fastmath={"contract"}``,
+which lets LLVM fuse a product and a sum into one rounding (no reordering of
+sums, no other relaxed IEEE rule).  The moment sums of sampling are mostly such
+products (``m += vx * vy``), and the sampling pass ``sample_cells`` compiles with
+the same flag, so the two paths stay bit-identical.  Measured in one process,
+alternating the two builds on the same state (1e6 particles, bench case, 30
+calls each): collisions with sampling 0.923 and 0.946 of the time without the
+flag on one thread, 0.954 on two.
 """
 
 from __future__ import annotations
@@ -259,7 +268,7 @@ def _prefetch_cell(pos, v, sp, erot, vib, lo, hi):
             prefetch(vib, k)
 
 
-@nb.njit(parallel=True, cache=True)
+@nb.njit(parallel=True, cache=True, fastmath={"contract"})
 def collide_ntc(pos, v, sp, erot, vib, cell_start, volume, weight, dt, sgmax, remainder,
                 pair_c, pair_exp, pair_alpha, mass, rot_half, theta_vib, pair_prot, pair_pvib,
                 rot_tstar, state, stream0, stats, moments, sample):

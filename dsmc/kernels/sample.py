@@ -18,6 +18,9 @@ with the same sums in the same order, so the two give bit-identical moments.
 The separate pass cost 2.3 of about 25 ns per particle-step (one thread,
 1e6 particles); inside the collision kernel the sampling costs about 1 ns in
 the cache and out of it makes the step faster (see the collide module).
+Both callers compile with ``fastmath={"contract"}`` (fused multiply-adds, the
+same in both, see the collide module); a caller without it would round the
+products separately and lose the bit-identity.
 """
 
 from __future__ import annotations
@@ -84,7 +87,7 @@ def add_cell_moments(v, sp, erot, vib, lo, hi, acc, c):
         a[14] += m14
 
 
-@nb.njit(parallel=True, cache=True)
+@nb.njit(parallel=True, cache=True, fastmath={"contract"})
 def sample_cells(v, sp, erot, vib, cell_start, acc):
     """Add the raw moments of every cell to ``acc`` (n_cells, n_species, 15), in a pass of
     its own (:func:`add_cell_moments`); the time loop samples inside ``collide_ntc``."""
