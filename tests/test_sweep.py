@@ -17,7 +17,7 @@ Findings (seed fixed, numbers of this suite):
   Kn = 14.6, still about -5 %).  The 2 % free-molecular check is therefore
   made at Kn = 100, and the Kn = 10 expectation is kept as a strict xfail.
 * Kn = 0.01: the shear stress is checked against the slip solution within
-  3 %; its standard error is 1.5 % in the ~2 minutes we allow, so the check
+  3 %; its standard error is 1.5-2.2 % in the time we allow, so the check
   has power only against departures of about 3 standard errors.  The heat
   flux there has a 5 % batch error, not trustworthy because the batches are
   shorter than the diffusion time, and is not checked here; tools/validate.py
@@ -129,7 +129,11 @@ def test_dsmc_lies_between_the_limits(sweep, name):
 
 def test_slip_flow_at_kn_001(sweep):
     r = _at(sweep, 0.01)
-    assert r.tau_se < 0.02 * abs(r.tau)          # precision of this check (1.5 % measured)
+    print(f"Kn 0.01: tau/tau_slip - 1 = {r.tau / r.tau_slip - 1:+.4f} +- {r.tau_se / abs(r.tau):.4f}")
+    # precision of this check: 1.5 % and 2.2 % measured with two sets of random streams (the
+    # error of 20 batches is itself uncertain by about 16 %, more with batches shorter than
+    # the diffusion time)
+    assert r.tau_se < 0.025 * abs(r.tau)
     assert abs(r.tau - r.tau_slip) < 0.03 * abs(r.tau_slip)
 
 
@@ -178,10 +182,11 @@ def test_hard_sphere_slip_coefficient(sweep):
 
     The coefficient is the mean of the two walls with mu du/dn from the measured shear
     stress (so the 1-2 % gap between the true hard-sphere viscosity and its
-    Chapman-Enskog first approximation does not enter); its jackknife error is about
-    2.5 %, and 10 % is then about 4 standard errors."""
+    Chapman-Enskog first approximation does not enter); its jackknife error was 2.5 % and
+    3.6 % of it with two sets of random streams, so 10 % is 3-4 standard errors."""
     c = compare(sweep["hs"])
     sigma, err = c.fit.mean["sigma_measured_mu"]
     ref = limits.DIFFUSE_COEFFICIENTS["hard_sphere"]["sigma_P"]
-    assert err < 0.035 * ref
+    print(f"hard-sphere slip coefficient {sigma:.4f} +- {err:.4f} (reference {ref:.5f})")
+    assert err < 0.045 * ref  # the check below is then at least 2.2 standard errors wide
     assert abs(sigma - ref) < 0.10 * ref, (sigma, err, ref)
