@@ -33,9 +33,12 @@ def chunk_layout(n, block_size, n_keys):
     multiple of ``block_size``.
 
     As many chunks as there are blocks, up to ``SORT_CHUNKS``, so that two
-    threads share even a run of a few blocks (one-block chunks took the
-    two-thread step at 1e4 particles of the benchmark case from 19-20 to
-    13.6-14.6 ns per particle-step; ``tools/bench.py --scaling``).  Each chunk
+    threads share even a run of a few blocks.  With blocks of 1024 instead of
+    4096 particles and one block per chunk instead of eight, the two-thread
+    step at 1e4 particles of the benchmark case (``tools/bench.py``) went from
+    19.0-20.2 to 13.6-14.6 ns per particle-step, runs of the two builds
+    alternating on one machine; one thread and 1e5-1e6 particles were not
+    slower.  Each chunk
     costs a histogram row of ``n_keys`` counters to clear and to add up, so a
     sparse run (few particles per key) gets no more than ``n // n_keys``
     chunks, and at least 2: the histogram work stays below the particle work.
