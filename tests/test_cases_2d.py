@@ -18,6 +18,7 @@ import pytest
 from conftest import CASES, ROOT
 from dsmc.case import load_case, parse_case
 from dsmc.runner import run_case
+from tests.test_xdmf_reader import check_fields, read_xdmf
 
 SHIPPED_2D = sorted(p for p in CASES.glob("*.toml") if load_case(p).domain.dim == 2)
 
@@ -52,6 +53,10 @@ def test_shipped_2d_case_runs_and_its_outputs_open(path, tmp_path):
                 assert " ".join(map(str, f[dataset].shape)) == item.get("Dimensions")
         assert np.isfinite(f["fields/temperature"][()]).any()
         has_bodies = "bodies" in f
+        read = read_xdmf(xmf)  # and what a viewer's XDMF reader makes of it
+        assert read["errors"] == ""
+        assert set(read["blocks"]) == {case.title, *(f["bodies"] if has_bodies else ())}
+        assert check_fields(read["blocks"][case.title], f) >= 10
     tools = [["plot_2d.py", str(out), "--field", "temperature", "-o", str(tmp_path / "f.png")]]
     if has_bodies:
         tools.append(["plot_surface.py", str(out), "--free-molecular", "-o",

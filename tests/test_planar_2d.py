@@ -552,8 +552,11 @@ def test_result_file_and_xdmf_sidecar(tmp_path):
         root = ET.parse(xmf).getroot()
         assert root.tag == "Xdmf" and root.get("Version") == "3.0"
         grid = root.find("Domain/Grid")
-        assert grid.find("Topology").get("TopologyType") == "2DCoRectMesh"
+        assert grid.find("Topology").get("TopologyType") == "2DRectMesh"
         assert grid.find("Topology").get("Dimensions") == "9 11"
+        geo = [i.text for i in grid.find("Geometry").findall("DataItem")]
+        assert grid.find("Geometry").get("GeometryType") == "VXVY"
+        assert geo == ["cavity.h5:/grid/x_edges", "cavity.h5:/grid/y_edges"]
         names = set()
         for att in grid.findall("Attribute"):
             assert att.get("Center") == "Cell"

@@ -2,10 +2,14 @@
 
 XDMF 3 (the eXtensible Data Model and Format, an open standard: light XML
 describing heavy data kept in HDF5) describes the grid and points at the
-HDF5 datasets; no data is copied.  The grid is a uniform rectilinear mesh
-(``2DCoRectMesh``) with ``(ny + 1) x (nx + 1)`` nodes, its origin and spacing
-given slowest axis first (``y x``), as XDMF orders them like the HDF5
-dimensions ``[iy, ix]`` of the cell fields.  Every ``/fields`` dataset of
+HDF5 datasets; no data is copied.  The grid is a rectilinear mesh
+(``2DRectMesh``) with ``(ny + 1) x (nx + 1)`` nodes whose ``VXVY`` geometry
+points at the cell edges ``/grid/x_edges`` and ``/grid/y_edges``.  Checked with
+VTK's XDMF reader (``vtkXdmfReader``, the reader of general-purpose viewers;
+``tests/test_xdmf_reader.py``): the mesh lies in the x-y plane with the box's
+bounds, and every field at a cell centre is the HDF5 value ``[iy, ix]``.  A
+``2DCoRectMesh`` with ``ORIGIN_DXDY`` (origin and spacing only), used before,
+was read into the y-z plane, x along y.  Every ``/fields`` dataset of
 shape ``(ny, nx)`` becomes a cell-centred ``Scalar`` attribute, and those of
 shape ``(ny, nx, 3)`` named in ``VECTOR_FIELDS`` a cell-centred ``Vector``;
 the standard errors (``*_stderr``) are included the same way.  Other
@@ -68,16 +72,12 @@ def write_xdmf(results: str | Path, out: str | Path | None = None) -> Path:
     root = ET.Element("Xdmf", Version="3.0")
     domain = ET.SubElement(root, "Domain")
     grid = ET.SubElement(domain, "Grid", Name=title or "fields", GridType="Uniform")
-    ET.SubElement(grid, "Topology", TopologyType="2DCoRectMesh", Dimensions=f"{ny + 1} {nx + 1}")
-    geo = ET.SubElement(grid, "Geometry", GeometryType="ORIGIN_DXDY")
-    origin = ET.SubElement(geo, "DataItem", Name="origin", Dimensions="2", NumberType="Float",
-                           Precision="8", Format="XML")
-    origin.text = f"{float(y_edges[0])!r} {float(x_edges[0])!r}"
-    spacing = ET.SubElement(geo, "DataItem", Name="spacing", Dimensions="2", NumberType="Float",
-                            Precision="8", Format="XML")
-    dy = float(y_edges[-1] - y_edges[0]) / ny
-    dx = float(x_edges[-1] - x_edges[0]) / nx
-    spacing.text = f"{dy!r} {dx!r}"
+    ET.SubElement(grid, "Topology", TopologyType="2DRectMesh", Dimensions=f"{ny + 1} {nx + 1}")
+    geo = ET.SubElement(grid, "Geometry", GeometryType="VXVY")
+    for axis, count in (("x", nx + 1), ("y", ny + 1)):
+        item = ET.SubElement(geo, "DataItem", Name=f"{axis}_edges", Dimensions=str(count),
+                             NumberType="Float", Precision="8", Format="HDF")
+        item.text = f"{href}:/grid/{axis}_edges"
     for name, kind, shape in fields:
         att = ET.SubElement(grid, "Attribute", Name=name, AttributeType=kind, Center="Cell")
         item = ET.SubElement(att, "DataItem", Dimensions=" ".join(str(s) for s in shape),
