@@ -12,12 +12,13 @@ from dsmc.simulation import BLOCK_SIZE, Simulation
 from tests.test_reproducibility import CASE
 
 
+@pytest.mark.parametrize("dim", [1, 2])
 @pytest.mark.parametrize("internal", [False, True])
 @pytest.mark.parametrize("n,n_keys", [(0, 3), (1, 1), (10, 3), (100_003, 17), (600_001, 25_000)])
-def test_scatter_is_the_stable_sort(n, n_keys, internal):
+def test_scatter_is_the_stable_sort(n, n_keys, internal, dim):
     rng = np.random.default_rng(n)
     key = rng.integers(0, n_keys, n).astype(np.int32)
-    pos = rng.random((n, 1))
+    pos = rng.random((n, dim))
     v = rng.normal(size=(n, 3))
     sp = rng.integers(0, 3, n).astype(np.uint8)
     ni = n if internal else 0  # internal energies are empty arrays for monatomic gases

@@ -111,7 +111,8 @@ def scatter_sorted(key, n, n_keys, block_size, hist, start, pos, v, sp, erot, vi
     ``hist`` is the per-chunk histogram of :func:`histogram` (overwritten by
     the chunk offsets); ``start`` (length ``n_keys + 1``) receives the first
     sorted position of each key.  ``erot``/``vib`` (internal energies) are
-    moved too unless they are empty (monatomic gases).
+    moved too unless they are empty (monatomic gases).  ``pos`` has one or two
+    columns (1-D and 2-D grids).
     """
     n_chunks, size = chunk_layout(n, block_size, n_keys)
     start[0] = 0
@@ -134,8 +135,12 @@ def scatter_sorted(key, n, n_keys, block_size, hist, start, pos, v, sp, erot, vi
             k = key[i]
             j = fill[k]
             fill[k] = j + 1
-            for d in range(dim):
-                pos_out[j, d] = pos[i, d]
+            # positions have one or two coordinates; the unrolled copy made the scatter 7-10 %
+            # faster than a loop over ``dim`` (ratios 0.897, 0.897 on one thread and 0.927 on
+            # two, 1e6 particles, the two builds alternating in one process)
+            pos_out[j, 0] = pos[i, 0]
+            if dim == 2:
+                pos_out[j, 1] = pos[i, 1]
             v_out[j, 0] = v[i, 0]
             v_out[j, 1] = v[i, 1]
             v_out[j, 2] = v[i, 2]
